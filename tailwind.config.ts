@@ -1,0 +1,6 @@
+import type { Config } from 'tailwindcss'
+
+export default {
+  content: ['./app/**/*.{vue,ts}'],
+  theme: { extend: {} },
+} satisfies Config
