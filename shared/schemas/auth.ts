@@ -1,0 +1,31 @@
+import { z } from 'zod'
+
+export const emailSchema = z
+  .string({ required_error: 'Enter an e-mail address' })
+  .trim()
+  .toLowerCase()
+  .min(1, 'Enter an e-mail address')
+  .max(254, 'An e-mail address has at most 254 characters')
+  .email('Enter a valid e-mail address')
+
+/** POST /api/auth/login */
+export const loginSchema = z.object({
+  email: emailSchema,
+  password: z.string({ required_error: 'Enter your password' }).min(1, 'Enter your password').max(200),
+})
+export type LoginBody = z.infer<typeof loginSchema>
+
+/** A new password, as chosen on the invitation page. */
+export const passwordSchema = z
+  .string({ required_error: 'Choose a password' })
+  .min(10, 'A password has at least 10 characters')
+  .max(200, 'A password has at most 200 characters')
+
+/** POST /api/invitations/[token] */
+export const acceptInvitationSchema = z
+  .object({ password: passwordSchema, confirm: z.string() })
+  .refine((body) => body.password === body.confirm, {
+    message: 'The two passwords differ',
+    path: ['confirm'],
+  })
+export type AcceptInvitationBody = z.infer<typeof acceptInvitationSchema>
