@@ -1,0 +1,42 @@
+# Paths and ports of the local services, shared by every script (DEVELOPERS.md, "Local services and ports").
+# Sourced, not run.
+ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)"
+DATA="$ROOT/.data"
+PG_PORT=54329
+PG_ROLE=loopwright
+APP_HOST=127.0.0.1
+APP_PORT=3000
+TEST_APP_PORT=3199
+SMTP_PORT=2525
+MAIL_HTTP_PORT=2580
+TEST_SMTP_PORT=2526
+TEST_MAIL_HTTP_PORT=2581
+
+say() { printf '%s\n' "$*"; }
+die() { printf 'error: %s\n' "$*" >&2; exit 1; }
+
+# .data holds secrets (files 0600); 0711 lets the postgres user pass through to its cluster without listing it.
+ensure_data_dir() {
+  mkdir -p "$DATA"
+  chmod 711 "$DATA"
+}
+
+# A random hex secret, created once into .data/<name> and read back afterwards.
+secret() {
+  local file="$DATA/$1" bytes="${2:-32}"
+  ensure_data_dir
+  if [ ! -s "$file" ]; then
+    (umask 077 && od -An -N"$bytes" -tx1 /dev/urandom | tr -d ' \n' >"$file")
+  fi
+  cat "$file"
+}
+
+# Wait until a URL answers, up to $2 seconds.
+wait_for_url() {
+  local url="$1" seconds="${2:-30}" i
+  for ((i = 0; i < seconds * 5; i++)); do
+    curl -fsS -o /dev/null --max-time 2 "$url" 2>/dev/null && return 0
+    sleep 0.2
+  done
+  return 1
+}
