@@ -1,0 +1,12 @@
+// Signed-out people see only the pages that declare `public: true` (sign-in, invitation).
+export default defineNuxtRouteMiddleware((to) => {
+  const { loggedIn } = useUserSession()
+  if (to.meta.public) {
+    if (loggedIn.value && to.path === '/sign-in') return navigateTo('/')
+    return
+  }
+  if (!loggedIn.value) {
+    const next = to.fullPath !== '/' ? { next: to.fullPath } : undefined
+    return navigateTo({ path: '/sign-in', query: next })
+  }
+})
