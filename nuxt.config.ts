@@ -16,7 +16,7 @@ export default defineNuxtConfig({
     databaseUrl: '',
     smtpHost: '127.0.0.1',
     smtpPort: 0,
-    public: { appName: 'Loopwright' },
+    public: { appName: 'Loopwright', siteUrl: '' },
   },
   typescript: { strict: true },
 })

@@ -1,0 +1,167 @@
+// People: the admins' paged list, invitations by e-mail, and changes of name, roles and active flag.
+import { and, asc, desc, eq, ilike, isNotNull, isNull, notInArray, or, sql, type SQL } from 'drizzle-orm'
+import { createError } from 'h3'
+import type { z } from 'zod'
+import { organisations, people, projectMembers } from '../db/schema'
+import type { Database } from '../utils/db'
+import type { InviteBody, PersonRow, PersonUpdateBody, peopleQuerySchema } from '../../shared/schemas/people'
+import type { Page } from '../../shared/schemas/lists'
+import type { Role } from '../../shared/schemas/roles'
+import { recordAuditEvent, type AuditContext } from './audit-trail'
+import { createInvitation } from './invitations'
+import type { SendMail } from './outgoing-mail'
+
+const status = sql<PersonRow['status']>`case
+  when not ${people.active} then 'deactivated'
+  when ${people.passwordHash} is null then 'invited'
+  else 'active' end`
+
+const rowColumns = {
+  id: people.id,
+  name: people.name,
+  email: people.email,
+  roles: people.roles,
+  status,
+  organisationId: people.organisationId,
+  organisationName: organisations.name,
+  createdAt: people.createdAt,
+}
+
+type SelectedRow = { roles: string[]; createdAt: Date } & Omit<PersonRow, 'roles' | 'createdAt'>
+
+function toPersonRow(row: SelectedRow): PersonRow {
+  return { ...row, roles: row.roles as Role[], createdAt: row.createdAt.toISOString() }
+}
+
+export async function findPersonRow(db: Database, id: number): Promise<PersonRow | null> {
+  const [row] = await db
+    .select(rowColumns)
+    .from(people)
+    .leftJoin(organisations, eq(organisations.id, people.organisationId))
+    .where(eq(people.id, id))
+  return row ? toPersonRow(row) : null
+}
+
+export async function listPeople(db: Database, query: z.output<typeof peopleQuerySchema>): Promise<Page<PersonRow>> {
+  const filters: SQL[] = []
+  if (query.q) filters.push(or(ilike(people.name, `%${query.q}%`), ilike(people.email, `%${query.q}%`))!)
+  if (query.role) filters.push(sql`${people.roles} @> array[${query.role}]::text[]`)
+  if (query.status === 'deactivated') filters.push(eq(people.active, false))
+  if (query.status === 'invited') filters.push(and(eq(people.active, true), isNull(people.passwordHash))!)
+  if (query.status === 'active') filters.push(and(eq(people.active, true), isNotNull(people.passwordHash))!)
+  const where = filters.length ? and(...filters) : undefined
+  const column = { name: people.name, email: people.email, createdAt: people.createdAt }[query.sort]
+  const direction = query.dir === 'desc' ? desc : asc
+  const [rows, [counted]] = await Promise.all([
+    db
+      .select(rowColumns)
+      .from(people)
+      .leftJoin(organisations, eq(organisations.id, people.organisationId))
+      .where(where)
+      .orderBy(direction(column), direction(people.id))
+      .limit(query.pageSize)
+      .offset((query.page - 1) * query.pageSize),
+    db.select({ total: sql<number>`count(*)::int` }).from(people).where(where),
+  ])
+  return { items: rows.map(toPersonRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
+}
+
+/** Creates the person without a password and e-mails them a one-time link to choose one. */
+export async function invitePerson(
+  db: Database,
+  body: InviteBody,
+  context: AuditContext,
+  invitation: { siteUrl: string; send: SendMail },
+): Promise<PersonRow> {
+  const organisationId = body.roles.includes('client') ? (body.organisationId ?? null) : null
+  if (organisationId !== null) {
+    const [organisation] = await db.select().from(organisations).where(eq(organisations.id, organisationId))
+    if (!organisation) {
+      throw createError({
+        statusCode: 400,
+        statusMessage: 'Some fields need attention',
+        data: { issues: { formErrors: [], fieldErrors: { organisationId: ['This client organisation does not exist'] } } },
+      })
+    }
+  }
+  const { personId, token } = await db.transaction(async (tx) => {
+    const [created] = await tx
+      .insert(people)
+      .values({ name: body.name, email: body.email, roles: body.roles, organisationId })
+      .onConflictDoNothing()
+      .returning({ id: people.id })
+    if (!created) {
+      throw createError({ statusCode: 409, statusMessage: 'Someone with this e-mail address already has an account' })
+    }
+    const token = await createInvitation(tx as unknown as Database, created.id, context.actorId)
+    await recordAuditEvent(tx, context, {
+      action: 'person.invited',
+      subjectType: 'person',
+      subjectId: created.id,
+      detail: { email: body.email, roles: body.roles },
+    })
+    return { personId: created.id, token }
+  })
+  const link = `${invitation.siteUrl.replace(/\/$/, '')}/invitation/${token}`
+  await invitation.send({
+    to: body.email,
+    subject: 'Your Loopwright account: choose a password',
+    text: [
+      `Hello ${body.name},`,
+      '',
+      'An administrator has opened a Loopwright account for you.',
+      'Choose your password with this link. It works once and expires in 7 days:',
+      '',
+      link,
+      '',
+      'If you did not expect this message, you can ignore it.',
+    ].join('\n'),
+  })
+  return (await findPersonRow(db, personId))!
+}
+
+export async function updatePerson(db: Database, id: number, body: PersonUpdateBody, context: AuditContext): Promise<PersonRow> {
+  const [person] = await db.select().from(people).where(eq(people.id, id))
+  if (!person) throw createError({ statusCode: 404, statusMessage: 'No such person' })
+  if (body.roles?.includes('client') && !person.organisationId) {
+    throw createError({
+      statusCode: 400,
+      statusMessage: 'Some fields need attention',
+      data: { issues: { formErrors: [], fieldErrors: { roles: ['A client contact belongs to a client organisation; invite them as one'] } } },
+    })
+  }
+  const rolesChanged = body.roles !== undefined && [...body.roles].sort().join() !== [...person.roles].sort().join()
+  const activeChanged = body.active !== undefined && body.active !== person.active
+  await db.transaction(async (tx) => {
+    await tx
+      .update(people)
+      .set({
+        ...(body.name !== undefined && { name: body.name }),
+        ...(body.roles !== undefined && { roles: body.roles }),
+        ...(body.active !== undefined && { active: body.active }),
+        // Live sessions compare this number on every request (server/middleware/active-person.ts).
+        ...((rolesChanged || activeChanged) && { sessionVersion: person.sessionVersion + 1 }),
+      })
+      .where(eq(people.id, id))
+    let removedMemberships: string[] = []
+    if (rolesChanged) {
+      // A project role needs the matching global role: memberships whose role the person lost are ended.
+      const removed = await tx
+        .delete(projectMembers)
+        .where(and(eq(projectMembers.personId, id), notInArray(projectMembers.role, body.roles!)))
+        .returning({ projectId: projectMembers.projectId, role: projectMembers.role })
+      removedMemberships = removed.map((row) => `${row.projectId}:${row.role}`)
+    }
+    await recordAuditEvent(tx, context, {
+      action: activeChanged ? (body.active ? 'person.reactivated' : 'person.deactivated') : 'person.updated',
+      subjectType: 'person',
+      subjectId: id,
+      detail: {
+        ...(body.name !== undefined && body.name !== person.name && { name: { from: person.name, to: body.name } }),
+        ...(rolesChanged && { roles: { from: person.roles, to: body.roles } }),
+        ...(removedMemberships.length > 0 && { removedMemberships }),
+      },
+    })
+  })
+  return (await findPersonRow(db, id))!
+}

@@ -1,0 +1,18 @@
+// Validation of bodies, queries and route parameters with the shared zod schemas.
+// Bad input answers 400 with `data.issues` = zod's flattened errors ({ formErrors, fieldErrors }), which
+// the forms show beside their fields (DEVELOPERS.md, "API").
+import { z, type ZodTypeAny } from 'zod'
+
+/** A validator for h3's readValidatedBody / getValidatedQuery / getValidatedRouterParams. */
+export function parseWith<S extends ZodTypeAny>(schema: S) {
+  return (input: unknown): z.output<S> => {
+    const result = schema.safeParse(input)
+    if (result.success) return result.data
+    // h3 wraps what the validator throws as `data` of its 400 answer.
+    throw { message: 'Some fields need attention', issues: result.error.flatten() }
+  }
+}
+
+/** Route parameter `[id]` (and `[personId]`): a positive integer. */
+export const idParams = z.object({ id: z.coerce.number().int().positive() })
+export const memberParams = idParams.extend({ personId: z.coerce.number().int().positive() })

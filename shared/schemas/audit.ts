@@ -1,0 +1,23 @@
+import { listQuerySchema } from './lists'
+
+/** GET /api/audit */
+export const auditQuerySchema = listQuerySchema(['at'] as const)
+
+/** One row of GET /api/audit: one event of the append-only audit trail. */
+export interface AuditRow {
+  id: number
+  at: string
+  actorId: number | null
+  actorName: string | null
+  actorEmail: string | null
+  /** e.g. `sign-in.failed`, `access.refused`, `person.invited`, `project.member-added` */
+  action: string
+  subjectType: string | null
+  subjectId: string | null
+  /** The HTTP status of a refusal (401, 403, 429); null for events that are not refusals. */
+  status: number | null
+  method: string | null
+  path: string | null
+  ip: string | null
+  detail: Record<string, unknown>
+}
