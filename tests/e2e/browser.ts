@@ -5,7 +5,7 @@ import { mkdtemp, mkdir, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { fileURLToPath } from 'node:url'
-import puppeteer, { type Browser, type Page } from 'puppeteer-core'
+import puppeteer, { type Browser, type BrowserContext, type Page } from 'puppeteer-core'
 
 export const screenshotDir = fileURLToPath(new URL('../.artifacts/screenshots/', import.meta.url))
 
@@ -15,7 +15,8 @@ export interface TestBrowser {
   browser: Browser
   /** Requests that tried to leave the machine; the tests assert it stays empty. */
   outsideRequests: string[]
-  newPage(): Promise<Page>
+  /** A page in the default context, or in `context` (a second person's browser). */
+  newPage(context?: BrowserContext): Promise<Page>
   close(): Promise<void>
 }
 
@@ -40,8 +41,8 @@ export async function launchBrowser(): Promise<TestBrowser> {
   })
   const outsideRequests: string[] = []
 
-  async function newPage() {
-    const page = await browser.newPage()
+  async function newPage(context?: BrowserContext) {
+    const page = await (context ?? browser).newPage()
     await page.setRequestInterception(true)
     page.on('request', (request) => {
       const url = request.url()

@@ -1,0 +1,85 @@
+// The administrator's pages against the seeded demo (product.md's invented scenario):
+// what each shows, server-side sort and filter through the URL, and the forms' field errors.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import type { Page } from 'puppeteer-core'
+import { demoPassword, demoPeople } from '../../scripts/demo-people'
+import { baseUrl } from './api'
+import { clearAndType, launchBrowser, screenshot, signIn, textOf, type TestBrowser } from './browser'
+
+const admin = demoPeople.find((person) => person.roles.includes('admin' as never))!
+
+let chromium: TestBrowser
+let page: Page
+beforeAll(async () => {
+  chromium = await launchBrowser()
+  page = await chromium.newPage()
+  await signIn(page, baseUrl(), admin.email, demoPassword)
+})
+afterAll(async () => {
+  await chromium?.close()
+})
+
+const firstCells = (column: number) =>
+  page.$$eval(`tbody tr[data-row] td:nth-child(${column})`, (cells) => cells.map((cell) => (cell as HTMLElement).innerText.trim()))
+
+describe('administration pages', () => {
+  it('lists the people, sorts them on the server and filters by role', async () => {
+    await page.goto(`${baseUrl()}/people`, { waitUntil: 'networkidle0' })
+    const names = (await firstCells(1)).map((cell) => cell.replace(' (you)', ''))
+    for (const person of demoPeople) expect(names).toContain(person.name)
+    expect(names).toEqual([...names].sort((a, b) => a.localeCompare(b)))
+    await screenshot(page, 'people')
+
+    await Promise.all([page.waitForResponse((response) => response.url().includes('/api/people?')), page.click('button[data-sort=name]')])
+    await page.waitForFunction(() => new URL(location.href).searchParams.get('dir') === 'asc')
+    await Promise.all([page.waitForResponse((response) => response.url().includes('/api/people?')), page.click('button[data-sort=name]')])
+    await page.waitForFunction(() => new URL(location.href).searchParams.get('dir') === 'desc')
+    await page.waitForNetworkIdle({ idleTime: 200 })
+    const descending = (await firstCells(1)).map((cell) => cell.replace(' (you)', ''))
+    expect(descending).toEqual([...descending].sort((a, b) => b.localeCompare(a)))
+
+    await page.select('#people-role', 'checker')
+    await page.waitForFunction(() => new URL(location.href).searchParams.get('role') === 'checker')
+    await page.waitForNetworkIdle({ idleTime: 200 })
+    const checkers = demoPeople.filter((person) => person.roles.includes('checker' as never)).map((person) => person.name)
+    expect((await firstCells(1)).sort()).toEqual(checkers.sort())
+  })
+
+  it('shows the client organisation and the demo project with its members', async () => {
+    await page.goto(`${baseUrl()}/organisations`, { waitUntil: 'networkidle0' })
+    expect(await firstCells(1)).toContain('Northmere Water District')
+    await screenshot(page, 'organisations')
+
+    await page.goto(`${baseUrl()}/projects`, { waitUntil: 'networkidle0' })
+    expect(await firstCells(1)).toContain('NWD-214')
+    await screenshot(page, 'projects')
+
+    await page.click('tbody a[href^="/projects/"]')
+    await page.waitForSelector('[data-member]')
+    expect(await textOf(page, 'h1')).toBe('Hollins Booster Station upgrade')
+    const members = await page.$$eval('[data-member]', (items) => items.map((item) => (item as HTMLElement).innerText))
+    for (const person of demoPeople.filter((p) => p.projectRole)) {
+      expect(members.some((text) => text.includes(person.name))).toBe(true)
+    }
+    await screenshot(page, 'project-nwd-214')
+  })
+
+  it('shows the audit trail newest first, with the sign-ins just made', async () => {
+    await page.goto(`${baseUrl()}/audit`, { waitUntil: 'networkidle0' })
+    const actions = await firstCells(3)
+    expect(actions.some((text) => text.includes('sign-in.succeeded'))).toBe(true)
+    await screenshot(page, 'audit')
+  })
+
+  it('loads the firm settings and shows a field error for an empty firm name', async () => {
+    await page.goto(`${baseUrl()}/firm`, { waitUntil: 'networkidle0' })
+    expect(await page.$eval('#firm-name', (input) => (input as HTMLInputElement).value)).toBe('Cobalt Ridge Engineering')
+    const cautions = await page.$$('textarea[id^=caution-]')
+    expect(cautions.length).toBeGreaterThan(0)
+    await screenshot(page, 'firm')
+    await clearAndType(page, '#firm-name', '')
+    await page.click('[data-testid=firm-form] button[type=submit]')
+    await page.waitForSelector('[data-error-for=firm-name]')
+    expect(await textOf(page, '[data-error-for=firm-name]')).toBe('A name has at least 2 characters')
+  })
+})

@@ -1,0 +1,51 @@
+// The API as the tests' own witness: what the browser did is checked against what the server holds.
+import { inject } from 'vitest'
+
+declare module 'vitest' {
+  interface ProvidedContext {
+    baseUrl: string
+    mailApiUrl: string
+  }
+}
+
+export const baseUrl = () => inject('baseUrl')
+export const mailApiUrl = () => inject('mailApiUrl')
+
+/** Signs in over HTTP and returns the session cookie to send with later calls. */
+export async function apiSignIn(email: string, password: string): Promise<string> {
+  const response = await fetch(`${baseUrl()}/api/auth/login`, {
+    method: 'POST',
+    headers: { 'content-type': 'application/json' },
+    body: JSON.stringify({ email, password }),
+  })
+  if (!response.ok) throw new Error(`sign-in of ${email} answered ${response.status}`)
+  const cookies = response.headers.getSetCookie().map((cookie) => cookie.split(';')[0])
+  return cookies.join('; ')
+}
+
+export async function api<T = unknown>(cookie: string, path: string, init: { method?: string; body?: unknown } = {}) {
+  const response = await fetch(`${baseUrl()}${path}`, {
+    method: init.method ?? 'GET',
+    headers: { cookie, ...(init.body === undefined ? {} : { 'content-type': 'application/json' }) },
+    body: init.body === undefined ? undefined : JSON.stringify(init.body),
+  })
+  const text = await response.text()
+  return { status: response.status, body: (text ? JSON.parse(text) : null) as T }
+}
+
+interface StoredMessage {
+  to: string[]
+  subject: string
+  text: string
+}
+
+/** The one-time link of the newest invitation e-mailed to `email` (the mail sink of DEVELOPERS.md). */
+export async function invitationLink(email: string): Promise<string> {
+  for (let attempt = 0; attempt < 40; attempt++) {
+    const messages = (await (await fetch(`${mailApiUrl()}/messages?to=${encodeURIComponent(email)}`)).json()) as StoredMessage[]
+    const link = messages.map((message) => message.text.match(/https?:\/\/\S+\/invitation\/[\w-]+/)?.[0]).filter(Boolean).at(-1)
+    if (link) return link
+    await new Promise((resolve) => setTimeout(resolve, 250))
+  }
+  throw new Error(`no invitation e-mail reached ${email}`)
+}
