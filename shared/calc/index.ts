@@ -184,7 +184,7 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
   if (stability === 'stable') {
     if (num.length > den.length) warnings.push('T(s) has more zeros than poles (improper): no step response.')
     else {
-      const response = stepResponse(num, den, { deadline: deadline.at })
+      const response = stepResponse(num, den, { deadline: deadline.at, limitMs: deadline.limitMs })
       step = response.metrics
       stepPlot = { t: response.t, y: response.y }
       warnings.push(...response.warnings)
@@ -200,7 +200,7 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
     const rows = descendingCoefficients(closed.den).map((c) => c.inVariable(index, parameters.values))
     const width = Math.max(...rows.map((r) => r.length))
     const padded = rows.map((r) => [...new Array<number>(width - r.length).fill(0), ...r])
-    stability_range = { parameter: range.parameter, intervals: stableIntervals(padded, range.search, { deadline: deadline.at }) }
+    stability_range = { parameter: range.parameter, intervals: stableIntervals(padded, range.search, { deadline: deadline.at, limitMs: deadline.limitMs }) }
     if (Date.now() > deadline.at) throw new CalcTimeoutError('the stability range', deadline.limitMs)
   }
 
