@@ -8,11 +8,15 @@ import type { OrganisationBody, OrganisationRow, organisationsQuerySchema } from
 import type { Page } from '../../shared/schemas/lists'
 import { recordAuditEvent, type AuditContext } from './audit-trail'
 
+// Written out in full: drizzle leaves a column unqualified in a single-table select, and inside these
+// subqueries a bare "id" would name the subquery's own table.
+const organisationId = sql.raw('"organisations"."id"')
+
 const rowColumns = {
   id: organisations.id,
   name: organisations.name,
-  projectCount: sql<number>`(select count(*)::int from ${projects} where ${projects.organisationId} = ${organisations.id})`,
-  contactCount: sql<number>`(select count(*)::int from ${people} where ${people.organisationId} = ${organisations.id})`,
+  projectCount: sql<number>`(select count(*)::int from ${projects} where ${projects.organisationId} = ${organisationId})`,
+  contactCount: sql<number>`(select count(*)::int from ${people} where ${people.organisationId} = ${organisationId})`,
   createdAt: organisations.createdAt,
 }
 

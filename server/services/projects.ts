@@ -1,6 +1,6 @@
 // Projects and their members. Admins see every project; everyone else sees the projects they are a member of.
 // A member's project role needs the matching global role, and a client member belongs to the project's client.
-import { and, asc, desc, eq, exists, ilike, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, ilike, or, sql, type SQL } from 'drizzle-orm'
 import { createError } from 'h3'
 import type { z } from 'zod'
 import { organisations, people, projectMembers, projects } from '../db/schema'
@@ -15,6 +15,9 @@ export interface Viewer {
   roles: Role[]
 }
 
+// Written out in full: drizzle may leave a column unqualified, and inside a subquery that would name the wrong table.
+const projectId = sql.raw('"projects"."id"')
+
 const rowColumns = {
   id: projects.id,
   number: projects.number,
@@ -22,7 +25,7 @@ const rowColumns = {
   organisationId: projects.organisationId,
   organisationName: organisations.name,
   memberCount: sql<number>`(select count(distinct ${projectMembers.personId})::int from ${projectMembers}
-    where ${projectMembers.projectId} = ${projects.id})`,
+    where ${projectMembers.projectId} = ${projectId})`,
   createdAt: projects.createdAt,
 }
 
@@ -31,9 +34,8 @@ function toRow(row: Omit<ProjectRow, 'createdAt'> & { createdAt: Date }): Projec
 }
 
 function memberOf(viewer: Viewer): SQL {
-  return exists(
-    sql`select 1 from ${projectMembers} where ${projectMembers.projectId} = ${projects.id} and ${projectMembers.personId} = ${viewer.id}`,
-  )
+  return sql`exists (select 1 from ${projectMembers}
+    where ${projectMembers.projectId} = ${projectId} and ${projectMembers.personId} = ${viewer.id})`
 }
 
 function invalidField(field: string, message: string): never {

@@ -1,0 +1,105 @@
+// A small HTTP client for the server tests: one cookie jar per person, JSON in and out.
+import { inject } from 'vitest'
+import postgres from 'postgres'
+import { demoPassword } from '../../../scripts/demo-people'
+
+export interface Answer<T = any> {
+  status: number
+  body: T
+  headers: Headers
+}
+
+export class Client {
+  cookie = ''
+
+  async request<T = any>(method: string, path: string, body?: unknown): Promise<Answer<T>> {
+    const answer = await fetch(`${inject('baseUrl')}${path}`, {
+      method,
+      headers: {
+        ...(body === undefined ? {} : { 'content-type': 'application/json' }),
+        ...(this.cookie ? { cookie: this.cookie } : {}),
+      },
+      body: body === undefined ? undefined : JSON.stringify(body),
+      redirect: 'manual',
+    })
+    const setCookie = answer.headers.get('set-cookie')
+    if (setCookie) this.cookie = setCookie.split(';')[0]!.endsWith('=') ? '' : setCookie.split(';')[0]!
+    const text = await answer.text()
+    return { status: answer.status, body: text ? JSON.parse(text) : null, headers: answer.headers }
+  }
+
+  get<T = any>(path: string) {
+    return this.request<T>('GET', path)
+  }
+  post<T = any>(path: string, body?: unknown) {
+    return this.request<T>('POST', path, body ?? {})
+  }
+  patch<T = any>(path: string, body: unknown) {
+    return this.request<T>('PATCH', path, body)
+  }
+  delete<T = any>(path: string) {
+    return this.request<T>('DELETE', path)
+  }
+}
+
+export const demo = {
+  admin: 'imogen.varga@example.com',
+  engineer: 'tomas.okafor@example.com',
+  secondEngineer: 'priya.raman@example.com',
+  checker: 'henrik.salo@example.com',
+  client: 'dana.whitlock@example.com',
+}
+
+export async function signedIn(email: string, password = demoPassword): Promise<Client> {
+  const client = new Client()
+  const answer = await client.post('/api/auth/login', { email, password })
+  if (answer.status !== 200) throw new Error(`sign-in of ${email} answered ${answer.status}`)
+  return client
+}
+
+/** A name unique to this run, so tests never depend on each other's rows. */
+export function unique(prefix: string): string {
+  return `${prefix}${Date.now().toString(36)}${Math.random().toString(36).slice(2, 6)}`
+}
+
+let sqlClient: postgres.Sql | undefined
+/** Direct access to the test database, to check what the API wrote. */
+export function database(): postgres.Sql {
+  sqlClient ??= postgres(inject('databaseUrl'), { max: 2, onnotice: () => {} })
+  return sqlClient
+}
+
+interface MailMessage {
+  to: string[]
+  subject: string
+  text: string
+}
+
+export async function mailTo(address: string): Promise<MailMessage[]> {
+  for (let attempt = 0; attempt < 50; attempt++) {
+    const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
+    const messages = (await answer.json()) as MailMessage[]
+    if (messages.length > 0) return messages
+    await new Promise((resolve) => setTimeout(resolve, 100))
+  }
+  return []
+}
+
+/** Invites a person as the demo admin, accepts the invitation, and returns their id and password. */
+export async function newPerson(
+  admin: Client,
+  roles: string[] = ['engineer'],
+  extra: { name?: string; organisationId?: number } = {},
+): Promise<{ id: number; email: string; password: string; name: string }> {
+  const handle = unique('p')
+  const email = `${handle}@example.com`
+  const name = extra.name ?? `Test Person ${handle}`
+  const invited = await admin.post('/api/people/invite', { name, email, roles, organisationId: extra.organisationId })
+  if (invited.status !== 201) throw new Error(`invite answered ${invited.status}: ${JSON.stringify(invited.body)}`)
+  const [message] = await mailTo(email)
+  const token = message!.text.match(/\/invitation\/([A-Za-z0-9_-]+)/)![1]!
+  const password = `pw-${handle}-long`
+  const accepted = await new Client().post(`/api/invitations/${token}`, { password, confirm: password })
+  if (accepted.status !== 204) throw new Error(`accepting answered ${accepted.status}`)
+  return { id: invited.body.id, email, password, name }
+}

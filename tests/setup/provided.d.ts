@@ -1,0 +1,13 @@
+// What tests/setup/app.ts hands to the server and browser tests through inject().
+declare module 'vitest' {
+  export interface ProvidedContext {
+    /** The built app under test, e.g. http://127.0.0.1:3199 */
+    baseUrl: string
+    /** The test mail sink's HTTP side, e.g. http://127.0.0.1:2581 (GET/DELETE /messages) */
+    mailApiUrl: string
+    /** postgres:// URL of the test database loopwright_test */
+    databaseUrl: string
+  }
+}
+
+export {}
