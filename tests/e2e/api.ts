@@ -1,12 +1,6 @@
 // The API as the tests' own witness: what the browser did is checked against what the server holds.
+/// <reference path="../setup/provided.d.ts" />
 import { inject } from 'vitest'
-
-declare module 'vitest' {
-  interface ProvidedContext {
-    baseUrl: string
-    mailApiUrl: string
-  }
-}
 
 export const baseUrl = () => inject('baseUrl')
 export const mailApiUrl = () => inject('mailApiUrl')

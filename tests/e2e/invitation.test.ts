@@ -33,6 +33,7 @@ describe('invitations', () => {
     })
     await signIn(page, baseUrl(), admin.email, demoPassword)
     await page.goto(`${baseUrl()}/people`, { waitUntil: 'networkidle0' })
+    await page.click('[data-opens=invite-panel]')
     await page.waitForSelector('[data-testid=invite-form]')
 
     await clearAndType(page, '#invite-name', 'O')
@@ -66,6 +67,8 @@ describe('invitations', () => {
     const page = await chromium.newPage()
     await signIn(page, baseUrl(), admin.email, demoPassword)
     await page.goto(`${baseUrl()}/people`, { waitUntil: 'networkidle0' })
+    await page.click('[data-opens=invite-panel]')
+    await page.waitForSelector('[data-testid=invite-form]')
     await clearAndType(page, '#invite-name', newcomer.name)
     await clearAndType(page, '#invite-email', newcomer.email)
     await page.click('input[name=invite-role-engineer]')
