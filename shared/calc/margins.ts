@@ -393,13 +393,6 @@ function sampledCrossings(at: (w: number) => Complex, f: FactoredRational, warni
   return { phaseCrossings: phaseCrossings.slice(0, MAX_PHASE_CROSSINGS), gainCrossings }
 }
 
-function wrapRadians(x: number): number {
-  let y = x % (2 * Math.PI)
-  if (y <= -Math.PI) y += 2 * Math.PI
-  if (y > Math.PI) y -= 2 * Math.PI
-  return y
-}
-
 function formatNumber(x: number): string {
   return Number.isInteger(x) ? String(x) : x.toPrecision(6).replace(/\.?0+($|e)/, '$1')
 }

@@ -19,7 +19,7 @@ export function identity(size: number): Float64Array {
   return out
 }
 
-export function multiply(a: Float64Array, b: Float64Array, size: number, out = new Float64Array(size * size)): Float64Array {
+export function multiply(a: Float64Array, b: Float64Array, size: number, out: Float64Array = new Float64Array(size * size)): Float64Array {
   for (let i = 0; i < size; i++) {
     for (let j = 0; j < size; j++) {
       let sum = 0
@@ -43,8 +43,8 @@ export function normOne(a: Float64Array, size: number): number {
 /** e^{scale·A} by the Taylor series alone; for ‖scale·A‖₁ ≤ 1/2. */
 export function exponentialTaylor(a: Float64Array, size: number, scale: number): Float64Array {
   const sum = identity(size)
-  let term = identity(size)
-  let next = new Float64Array(size * size)
+  let term: Float64Array = identity(size)
+  let next: Float64Array = new Float64Array(size * size)
   for (let k = 1; k <= 30; k++) {
     multiply(term, a, size, next)
     const factor = scale / k

@@ -40,7 +40,7 @@ export function routhArray(coefficients: number[]): RouthResult {
   const fixRow = (k: number): void => {
     const row = rows[k]
     if (row[0] !== 0) return
-    if (row.every((x) => x === 0)) {
+    if (isZeroRow(row)) {
       const above = rows[k - 1]
       const power = n - k + 1
       const auxiliary = above
@@ -96,6 +96,10 @@ export function routhArray(coefficients: number[]): RouthResult {
     auxiliary_rows: auxiliaryRows,
     notes,
   }
+}
+
+function isZeroRow(row: readonly number[]): boolean {
+  return row.every((x) => x === 0)
 }
 
 function monomial(c: number, power: number): string {
