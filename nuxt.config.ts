@@ -1,4 +1,6 @@
 // Loopwright: Nuxt 4 application configuration.
+import { bundleCalcWorker } from './server/workers/bundle'
+
 export default defineNuxtConfig({
   compatibilityDate: '2026-11-01',
   modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils'],
@@ -19,4 +21,13 @@ export default defineNuxtConfig({
     public: { appName: 'Loopwright', siteUrl: '' },
   },
   typescript: { strict: true },
+  hooks: {
+    // The calculation engine runs in worker threads (server/utils/calc-pool.ts),
+    // which start from a file of their own: bundle it after every server build.
+    'nitro:init'(nitro) {
+      nitro.hooks.hook('compiled', async () => {
+        await bundleCalcWorker(nitro.options.rootDir, [nitro.options.output.serverDir, nitro.options.buildDir])
+      })
+    },
+  },
 })
