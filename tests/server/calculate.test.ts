@@ -64,3 +64,43 @@ describe('POST /api/calculate', () => {
     expect(answer.status).toBe(400)
   })
 })
+
+/** Sixteen lags in series, each time constant with a tolerance band: 65 536 corners, far past any time limit. */
+function heavyLoop() {
+  const lags = Array.from({ length: 16 }, (_, i) => i + 1)
+  return {
+    title: 'A loop too heavy to finish in time',
+    parameters: {
+      K: { value: 0.5 },
+      ...Object.fromEntries(lags.map((i) => [`T${i}`, { value: 1 + 0.1 * i, min: 0.9 + 0.1 * i, max: 1.1 + 0.1 * i }])),
+    },
+    blocks: {
+      K: { role: 'controller', label: 'Gain', num: 'K' },
+      ...Object.fromEntries(lags.map((i) => [`G${i}`, { role: 'plant', label: `Lag ${i}`, num: '1', den: `T${i}*s + 1` }])),
+    },
+    structure: { feedback: { forward: { series: ['K', ...lags.map((i) => `G${i}`)] }, return: null, sign: -1 } },
+  }
+}
+
+describe('the engine off the event loop', () => {
+  it('stops a computation at its time limit and says so, while other requests are answered meanwhile', async () => {
+    const engineer = await signedIn(demo.engineer)
+    const finished: string[] = []
+    const heavy = engineer.post('/api/calculate', heavyLoop()).then((answer) => {
+      finished.push('heavy')
+      return answer
+    })
+    // Give the heavy loop a head start into its worker.
+    await new Promise((resolve) => setTimeout(resolve, 300))
+    const light = await engineer.post('/api/calculate', booster)
+    finished.push('light')
+    const session = await engineer.get('/api/_auth/session')
+    finished.push('session')
+    expect(light.status).toBe(200)
+    expect(session.status).toBe(200)
+    const stopped = await heavy
+    expect(finished).toEqual(['light', 'session', 'heavy'])
+    expect(stopped.status).toBe(422)
+    expect(stopped.body.message).toMatch(/time limit/)
+  })
+})
