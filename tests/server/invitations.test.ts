@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto'
-import { beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { Client, database, demo, mailTo, signedIn, unique, type Client as ClientType } from './support/client'
 
 describe('invitations', () => {
@@ -16,7 +16,7 @@ describe('invitations', () => {
 
     const [message] = await mailTo(email)
     expect(message!.subject).toMatch(/choose a password/)
-    const link = message!.text.match(/http:\/\/127\.0\.0\.1:3199\/invitation\/([A-Za-z0-9_-]{43})/)
+    const link = message!.text.match(new RegExp(`${inject('baseUrl').replace(/\./g, '\\.')}/invitation/([A-Za-z0-9_-]{43})\\s`))
     expect(link).not.toBeNull()
     const token = link![1]!
 

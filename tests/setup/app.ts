@@ -1,7 +1,10 @@
 // Global set-up of the server and browser tests (tests/vitest.config.ts): PostgreSQL and the test mail sink up,
 // a fresh database loopwright_test migrated and seeded, the built app on 127.0.0.1:3199.
-// Vitest calls this once per project; both calls share one app (counted on globalThis, the same process),
-// and the last teardown stops it and drops the database.
+// Vitest calls this once per project and runs the projects side by side, so each project gets an instance of
+// its own, and one project's rows never show up in the other's pages:
+//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581
+//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582
+// Teardown stops the app and drops its database.
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
 import { existsSync, openSync, readFileSync, writeFileSync, rmSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
@@ -9,25 +12,47 @@ import postgres from 'postgres'
 import type { TestProject } from 'vitest/node'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
-const pidFile = `${root}.data/test-app.pid`
-const logFile = `${root}.data/test-app.log`
-const mailApiUrl = 'http://127.0.0.1:2581'
+
+interface Instance {
+  name: string
+  appPort: number
+  database: string
+  smtpPort: number
+  mailHttpPort: number
+}
+
+function instanceOf(project: string): Instance {
+  if (project === 'server') {
+    return { name: 'server', appPort: 3198, database: 'loopwright_test_server', smtpPort: 2527, mailHttpPort: 2582 }
+  }
+  return { name: 'e2e', appPort: 3199, database: 'loopwright_test', smtpPort: 2526, mailHttpPort: 2581 }
+}
 
 interface Running {
+  instance: Instance
   env: Record<string, string>
   app: ChildProcess
-  users: number
+  pidFile: string
 }
-const key = Symbol.for('loopwright.tests.app')
-const shared = globalThis as unknown as Record<symbol, Promise<Running> | undefined>
 
 function run(command: string, args: string[], env: Record<string, string> = {}) {
   execFileSync(command, args, { cwd: root, env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'inherit'] })
 }
 
-function testEnv(): Record<string, string> {
+/** The app's environment of `scripts/app-env test`, moved to the instance's database and ports. */
+function testEnv(instance: Instance): Record<string, string> {
   const lines = execFileSync(`${root}scripts/app-env`, ['test'], { encoding: 'utf8' }).trim().split('\n')
-  return Object.fromEntries(lines.map((line) => [line.slice(0, line.indexOf('=')), line.slice(line.indexOf('=') + 1)]))
+  const env = Object.fromEntries(lines.map((line) => [line.slice(0, line.indexOf('=')), line.slice(line.indexOf('=') + 1)]))
+  const databaseUrl = new URL(env.NUXT_DATABASE_URL!)
+  databaseUrl.pathname = `/${instance.database}`
+  return {
+    ...env,
+    NUXT_DATABASE_URL: databaseUrl.toString(),
+    NUXT_SMTP_PORT: String(instance.smtpPort),
+    NUXT_PUBLIC_SITE_URL: `http://127.0.0.1:${instance.appPort}`,
+    HOST: '127.0.0.1',
+    PORT: String(instance.appPort),
+  }
 }
 
 async function recreateDatabase(databaseUrl: string, create: boolean) {
@@ -44,7 +69,7 @@ async function recreateDatabase(databaseUrl: string, create: boolean) {
 }
 
 /** An app left behind by an interrupted run would hold the port. */
-function stopLeftover() {
+function stopLeftover(pidFile: string) {
   if (!existsSync(pidFile)) return
   const pid = Number(readFileSync(pidFile, 'utf8'))
   try {
@@ -55,7 +80,7 @@ function stopLeftover() {
   rmSync(pidFile, { force: true })
 }
 
-async function waitForApp(baseUrl: string, app: ChildProcess) {
+async function waitForApp(baseUrl: string, app: ChildProcess, logFile: string) {
   const deadline = Date.now() + 60_000
   while (Date.now() < deadline) {
     if (app.exitCode !== null) break
@@ -70,15 +95,17 @@ async function waitForApp(baseUrl: string, app: ChildProcess) {
   throw new Error(`the app did not start on ${baseUrl}; see ${logFile}`)
 }
 
-async function start(): Promise<Running> {
+async function start(instance: Instance): Promise<Running> {
+  const pidFile = `${root}.data/test-app-${instance.name}.pid`
+  const logFile = `${root}.data/test-app-${instance.name}.log`
   run(`${root}scripts/db`, ['start'])
-  run(`${root}scripts/mail-sink`, ['start', '2526', '2581'])
-  const env = testEnv()
+  run(`${root}scripts/mail-sink`, ['start', String(instance.smtpPort), String(instance.mailHttpPort)])
+  const env = testEnv(instance)
   await recreateDatabase(env.NUXT_DATABASE_URL!, true)
   run('node', ['--import', 'tsx', 'scripts/migrate.ts'], env)
   run('node', ['--import', 'tsx', 'scripts/seed.ts'], env)
-  await fetch(`${mailApiUrl}/messages`, { method: 'DELETE' })
-  stopLeftover()
+  await fetch(`http://127.0.0.1:${instance.mailHttpPort}/messages`, { method: 'DELETE' })
+  stopLeftover(pidFile)
   const log = openSync(logFile, 'w')
   const app = spawn('node', ['.output/server/index.mjs'], {
     cwd: root,
@@ -86,8 +113,8 @@ async function start(): Promise<Running> {
     stdio: ['ignore', log, log],
   })
   writeFileSync(pidFile, String(app.pid))
-  await waitForApp(`http://${env.HOST}:${env.PORT}`, app)
-  return { env, app, users: 0 }
+  await waitForApp(`http://127.0.0.1:${instance.appPort}`, app, logFile)
+  return { instance, env, app, pidFile }
 }
 
 async function stop(running: Running) {
@@ -98,21 +125,14 @@ async function stop(running: Running) {
     await Promise.race([exited, new Promise((resolve) => setTimeout(resolve, 5000))])
     if (app.exitCode === null) app.kill('SIGKILL')
   }
-  rmSync(pidFile, { force: true })
+  rmSync(running.pidFile, { force: true })
   await recreateDatabase(env.NUXT_DATABASE_URL!, false)
 }
 
 export default async function setup(project: TestProject) {
-  shared[key] ??= start()
-  const running = await shared[key]!
-  running.users += 1
-  project.provide('baseUrl', `http://${running.env.HOST}:${running.env.PORT}`)
-  project.provide('mailApiUrl', mailApiUrl)
+  const running = await start(instanceOf(project.name))
+  project.provide('baseUrl', `http://127.0.0.1:${running.instance.appPort}`)
+  project.provide('mailApiUrl', `http://127.0.0.1:${running.instance.mailHttpPort}`)
   project.provide('databaseUrl', running.env.NUXT_DATABASE_URL!)
-  return async () => {
-    running.users -= 1
-    if (running.users > 0) return
-    shared[key] = undefined
-    await stop(running)
-  }
+  return () => stop(running)
 }
