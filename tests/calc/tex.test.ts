@@ -85,3 +85,16 @@ describe('TeX forms', () => {
     expect(polynomialTex(blocks.get('X')!.rational.den, parameters.tex)).toBe('T_i \\tau_d s^{2} + 1.5 T_i s - 1')
   })
 })
+
+describe('TeX of a whole result renders in KaTeX', () => {
+  it('renders every step and the closed and open loop of the booster example', async () => {
+    const { readFileSync } = await import('node:fs')
+    const { evaluateLoopText } = await import('../../shared/calc/index')
+    const result = evaluateLoopText(readFileSync(`${__dirname}/../../../shared/examples/booster-pressure.json`, 'utf8'))
+    expect(result.steps.map((s) => s.kind)).toEqual([
+      'block', 'block', 'block', 'block', 'series', 'feedback', 'feedback', 'expansion', 'substitution', 'check', 'numeric', 'check',
+    ])
+    for (const step of result.steps) renders(step.tex)
+    for (const tex of [result.closed_loop.num_tex, result.closed_loop.den_tex, result.open_loop!.num_tex, result.open_loop!.den_tex]) renders(tex)
+  })
+})
