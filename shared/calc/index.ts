@@ -108,8 +108,8 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
   const closed = reduction.closedLoop
 
   // Numbers last: exact substitution, then one division by the leading coefficient.
-  const numExact = substituteExact(closed.num, parameters.exactValues)
-  const denExact = substituteExact(closed.den, parameters.exactValues)
+  const numExact = substituteExact(closed.num, parameters.exactValues, deadline)
+  const denExact = substituteExact(closed.den, parameters.exactValues, deadline)
   if (denExact.length === 0) throw new LoopInputError('structure', 'the closed loop\'s denominator is zero at the parameters\' values')
   const lead = denExact[denExact.length - 1]
   const toNumbers = (p: Rational[]) => (p.length === 0 ? [0] : p.map((c) => rationalToNumber(c.div(lead))).reverse())
@@ -154,8 +154,8 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
   const nominalBlocks = blocksAt(parameters.values)
   if (reduction.outer) {
     const model = openLoopModel(reduction.outer, blocks, parameters, deadline)
-    const olNumExact = substituteExact(model.tf.num, parameters.exactValues)
-    const olDenExact = substituteExact(model.tf.den, parameters.exactValues)
+    const olNumExact = substituteExact(model.tf.num, parameters.exactValues, deadline)
+    const olDenExact = substituteExact(model.tf.den, parameters.exactValues, deadline)
     if (olDenExact.length === 0) throw new LoopInputError('structure', 'the open loop\'s denominator is zero at the parameters\' values')
     const olLead = olDenExact[olDenExact.length - 1]
     const olNumbers = (p: Rational[]) => (p.length === 0 ? [0] : p.map((c) => rationalToNumber(c.div(olLead))).reverse())

@@ -116,9 +116,11 @@ export class Multinomial {
   }
 
   /** Exact value with every parameter at an exact value. */
-  evaluateExact(values: readonly Rational[]): Rational {
+  evaluateExact(values: readonly Rational[], deadline?: Deadline): Rational {
     let sum = ZERO
+    let work = 0
     for (const { exponents, coefficient } of this.terms.values()) {
+      if (deadline && ++work % 1024 === 0) deadline.check('the substitution of the parameters\' values')
       let term = coefficient
       for (let i = 0; i < exponents.length; i++) if (exponents[i] > 0) term = term.mul(values[i].pow(exponents[i]))
       sum = sum.add(term)

@@ -93,8 +93,8 @@ export function isZeroPolynomial(p: Polynomial): boolean {
 }
 
 /** Exact coefficients with the parameters at exact values, lowest power first, trimmed of zero high powers. */
-export function substituteExact(p: Polynomial, values: readonly Rational[]): Rational[] {
-  const out = p.map((c) => c.evaluateExact(values))
+export function substituteExact(p: Polynomial, values: readonly Rational[], deadline?: Deadline): Rational[] {
+  const out = p.map((c) => c.evaluateExact(values, deadline))
   let n = out.length
   while (n > 0 && isZero(out[n - 1])) n--
   return out.slice(0, n)
