@@ -85,7 +85,9 @@ class LoopBuilder {
     const n = (this.counters[prefix] = (this.counters[prefix] ?? 0) + 1)
     const name = `${prefix}${n}`
     const v = tidy(value)
-    const p: RandomLoopParameter = { value: v, unit, tex: `${tex}_{${n}}` }
+    // K_c becomes K_{c,1}, T becomes T_{1}: one subscript, as TeX needs.
+    const sub = tex.match(/^(.*)_\{?([^{}]+)\}?$/)
+    const p: RandomLoopParameter = { value: v, unit, tex: sub ? `${sub[1]}_{${sub[2]},${n}}` : `${tex}_{${n}}` }
     if (this.bands < 3 && this.chance(0.2)) {
       p.min = tidy(v * 0.9)
       p.max = tidy(v * 1.1)

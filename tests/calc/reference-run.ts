@@ -48,6 +48,8 @@ export interface RefResult {
     /** Coefficient scales: the same reduction on coefficient magnitudes, signs all +, divided by |den[0]|. */
     closed_loop_scale: { num: number[]; den: number[] }
     open_loop_scale?: { num: number[]; den: number[] }
+    /** L = R(s)·e^(−sθ) where every dead time of the loop is a series factor: R without Padé and θ; null otherwise. */
+    open_loop_rational?: { num: number[]; den: number[]; delay_s: number; scale: { num: number[]; den: number[] } } | null
     roots_vs_mpmath: number
     verdict_clear: boolean
     imaginary_axis_roots: number

@@ -198,12 +198,12 @@ class Tf:
         self.num, self.den, self.mag_num, self.mag_den = num, den, mag_num, mag_den
 
 
-def block_tf(block, values, pade_order):
+def block_tf(block, values, pade_order, with_delay=True):
     num = PolyParser(str(block.get("num", "1")), values).parse()
     den = PolyParser(str(block.get("den", "1")), values).parse()
     if den.is_zero:
         raise ValueError("denominator is zero")
-    if block.get("delay") not in (None, ""):
+    if with_delay and block.get("delay") not in (None, ""):
         theta = PolyParser(str(block["delay"]), values).parse()
         if theta.degree() > 0:
             raise ValueError("delay depends on s")
@@ -319,12 +319,15 @@ def imaginary_axis_roots(p):
     g = sympy.gcd(re_part, im_part) if not im_part.is_zero else re_part
     if g.degree() <= 0:
         return 0
-    return g.count_roots()
+    return int(g.count_roots())
 
 
 def verdict(den, poles):
     on_axis = imaginary_axis_roots(den)
-    rhp = sum(1 for p in poles if p["re"] > 0)
+    # Roots exactly on the axis (known exactly above) may come out of numpy a
+    # rounding error to the right: only the clearly right ones count then.
+    axis_slack = 1e-9 if on_axis else 0.0
+    rhp = sum(1 for p in poles if p["re"] > axis_slack * max(math.hypot(p["re"], p["im"]), 1.0))
     min_re_rel = min((abs(p["re"]) / max(math.hypot(p["re"], p["im"]), 1e-300) for p in poles), default=1.0)
     if rhp > 0:
         stability = "unstable"
@@ -333,7 +336,7 @@ def verdict(den, poles):
     else:
         stability = "stable"
     # Near-axis poles that are not exactly on it make a numerical verdict fragile.
-    clear = on_axis > 0 or min_re_rel > 1e-6
+    clear = bool(on_axis > 0 or min_re_rel > 1e-6)
     return stability, rhp, on_axis, clear
 
 
@@ -366,11 +369,41 @@ def evaluate_node(node, blocks_num, s):
 
 
 def open_loop_at(structure, blocks_num, s):
+    """L(s) = forward x return, referred to the -1 point: for positive feedback
+    the characteristic equation is 1 - L = 0, so the Nyquist critical point of L
+    is +1 and the margins are those of -L against -1 (e.g. Ogata, "Modern
+    Control Engineering", Nyquist stability criterion; from memory)."""
     fb = structure["feedback"]
     g = evaluate_node(fb["forward"], blocks_num, s)
+    referred = -1.0 if int(fb.get("sign", -1)) == 1 else 1.0
     if fb.get("return") is None:
-        return g
-    return g * evaluate_node(fb["return"], blocks_num, s)
+        return referred * g
+    return referred * g * evaluate_node(fb["return"], blocks_num, s)
+
+
+def series_delays(node, loop_blocks):
+    """Dead times that are pure factors of the node (in series along it), or
+    None where one sits inside a parallel path or an inner loop."""
+    def has_delay(n):
+        if isinstance(n, str):
+            return loop_blocks[n].get("delay") not in (None, "")
+        if "series" in n:
+            return any(has_delay(c) for c in n["series"])
+        if "parallel" in n:
+            return any(has_delay(c) for c in n["parallel"])
+        f = n["feedback"]
+        return has_delay(f["forward"]) or (f.get("return") is not None and has_delay(f["return"]))
+    if isinstance(node, str):
+        return [node] if has_delay(node) else []
+    if "series" in node:
+        out = []
+        for c in node["series"]:
+            inner = series_delays(c, loop_blocks)
+            if inner is None:
+                return None
+            out += inner
+        return out
+    return None if has_delay(node) else []
 
 
 def margins(structure, blocks_num, characteristic_freqs, total_delay):
@@ -687,6 +720,24 @@ def evaluate(loop, only=None):
         onum, oden, omag_num, omag_den = normalised(ol)
         result["open_loop"] = {"num": onum, "den": oden}
         diag["open_loop_scale"] = {"num": omag_num, "den": omag_den}
+        # Where every dead time of the loop is a series factor, L = R(s) e^{-s theta}
+        # exactly: R without any Pade, and theta the sum of those dead times.
+        fd = series_delays(fb["forward"], loop["blocks"])
+        rd = series_delays(fb["return"], loop["blocks"]) if fb.get("return") is not None else []
+        if fd is not None and rd is not None:
+            plain = {bid: block_tf(b, values, order, with_delay=False) for bid, b in loop["blocks"].items()}
+            g0 = reduce_node(fb["forward"], plain)
+            if fb.get("return") is not None:
+                h0 = reduce_node(fb["return"], plain)
+                r0 = Tf(g0.num * h0.num, g0.den * h0.den, g0.mag_num * h0.mag_num, g0.mag_den * h0.mag_den)
+            else:
+                r0 = g0
+            rnum, rden, rmag_num, rmag_den = normalised(r0)
+            theta = sum(PolyParser(str(loop["blocks"][b]["delay"]), values).parse().LC() for b in fd + rd)
+            diag["open_loop_rational"] = {"num": rnum, "den": rden, "delay_s": float(theta),
+                                          "scale": {"num": rmag_num, "den": rmag_den}}
+        else:
+            diag["open_loop_rational"] = None
 
         # Blocks as floats with exact delays for the frequency response.
         blocks_num, freqs, total_delay = {}, [], 0.0
