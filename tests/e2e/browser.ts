@@ -15,7 +15,7 @@ export interface TestBrowser {
   browser: Browser
   /** Requests that tried to leave the machine; the tests assert it stays empty. */
   outsideRequests: string[]
-  /** A page in the default context, or in `context` (a second person's browser). */
+  /** A page in a fresh browser context of its own (no cookies shared), or in `context` when given. */
   newPage(context?: BrowserContext): Promise<Page>
   close(): Promise<void>
 }
@@ -42,7 +42,7 @@ export async function launchBrowser(): Promise<TestBrowser> {
   const outsideRequests: string[] = []
 
   async function newPage(context?: BrowserContext) {
-    const page = await (context ?? browser).newPage()
+    const page = await (context ?? (await browser.createBrowserContext())).newPage()
     await page.setRequestInterception(true)
     page.on('request', (request) => {
       const url = request.url()

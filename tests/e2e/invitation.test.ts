@@ -83,10 +83,9 @@ describe('invitations', () => {
     await page.waitForFunction((email) => document.body.innerText.includes(email), {}, newcomer.email)
     await screenshot(page, 'people-after-invite')
 
-    // The invited person opens the e-mailed link (in a browser of their own: no admin session).
+    // The invited person opens the e-mailed link (in a browser context of their own: no admin session).
     const link = new URL(await invitationLink(newcomer.email))
-    const own = await chromium.browser.createBrowserContext()
-    const invitee = await chromium.newPage(own)
+    const invitee = await chromium.newPage()
     await invitee.goto(`${baseUrl()}${link.pathname}`, { waitUntil: 'networkidle0' })
     await invitee.waitForSelector('[data-testid=invitation-form]')
     expect(await textOf(invitee, 'h1')).toBe(`Welcome, ${newcomer.name}`)
@@ -121,7 +120,7 @@ describe('invitations', () => {
     await signIn(invitee, baseUrl(), newcomer.email, newcomer.password)
     expect(await textOf(invitee, '[data-testid=person-name]')).toBe(newcomer.name)
     expect(await invitee.$$eval('[data-role-panel]', (panels) => panels.map((panel) => panel.getAttribute('data-role-panel')))).toEqual(['engineer'])
-    await own.close()
+    await invitee.close()
     await page.close()
   })
 })
