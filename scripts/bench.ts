@@ -1,0 +1,135 @@
+/**
+ * `npm run bench`: the median wall time of a full evaluateLoop for the booster
+ * example and for 2 to 10 first-order lags in series (every time constant a
+ * symbol T1…Tn with a value, a gain K, unity negative feedback), beside
+ * Debian's python3-sympy only expanding the same closed loops (cache cleared
+ * each time; scripts/bench-sympy.py, timed inside python) in the same run.
+ *
+ * Targets (issue 3), each printed PASS or FAIL as measured:
+ * - the booster example in at most 20 ms;
+ * - the 8-lag loop no slower than sympy's bare expansion;
+ * - cost growing with the size of the result, not faster: over 6 to 10 lags
+ *   the log-log slope of engine time against the result's term count is at
+ *   most 1.25 (1 is proportional; the slack is for timing noise).
+ * The bench always exits 0: a failed target is reported, not thrown.
+ */
+import { spawnSync } from 'node:child_process'
+import { readFileSync } from 'node:fs'
+import { fileURLToPath } from 'node:url'
+import { setFlagsFromString } from 'node:v8'
+import { runInNewContext } from 'node:vm'
+import { evaluateLoop } from '../shared/calc/index'
+
+const DEBIAN_PYTHON = '/usr/bin/python3'
+const SYMPY_SCRIPT = fileURLToPath(new URL('./bench-sympy.py', import.meta.url))
+const BOOSTER = fileURLToPath(new URL('../../shared/examples/booster-pressure.json', import.meta.url))
+
+interface Case {
+  name: string
+  lags: number | null
+  loop: Record<string, unknown>
+}
+
+/** n first-order lags with symbolic time constants, a gain K and unity negative feedback. */
+function lagsLoop(n: number): Record<string, unknown> {
+  const parameters: Record<string, { value: number; unit: string; tex: string }> = { K: { value: 0.5, unit: '', tex: 'K' } }
+  const blocks: Record<string, { role: string; label: string; num: string; den: string }> = {
+    G: { role: 'controller', label: 'Gain', num: 'K', den: '1' },
+  }
+  const series = ['G']
+  for (let i = 1; i <= n; i++) {
+    parameters[`T${i}`] = { value: Number((0.4 + 0.15 * i).toFixed(2)), unit: 's', tex: `T_{${i}}` }
+    blocks[`L${i}`] = { role: 'plant', label: `Lag ${i}`, num: '1', den: `T${i}*s + 1` }
+    series.push(`L${i}`)
+  }
+  return { title: `${n} first-order lags in series`, parameters, blocks, structure: { feedback: { forward: { series }, return: null, sign: -1 } } }
+}
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b)
+  const m = s.length >> 1
+  return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2
+}
+
+/** Warm-up, then repetitions until the median is stable: at least 7 runs and 1.5 s, at most 200 runs. */
+function timeEngine(loop: Record<string, unknown>): { medianMs: number; reps: number } {
+  for (let i = 0; i < 3; i++) evaluateLoop(loop as never)
+  const times: number[] = []
+  const started = performance.now()
+  while (times.length < 7 || (times.length < 200 && performance.now() - started < 1500)) {
+    const t0 = performance.now()
+    evaluateLoop(loop as never)
+    times.push(performance.now() - t0)
+  }
+  return { medianMs: median(times), reps: times.length }
+}
+
+const cases: Case[] = [
+  { name: 'booster example', lags: null, loop: JSON.parse(readFileSync(BOOSTER, 'utf8')) },
+  ...Array.from({ length: 9 }, (_, i) => ({ name: `${i + 2} lags`, lags: i + 2, loop: lagsLoop(i + 2) })),
+]
+
+let sympy: Array<{ median_ms: number; reps: number; terms: number }> | null = null
+let sympyProblem = ''
+const run = spawnSync(DEBIAN_PYTHON, [SYMPY_SCRIPT], { input: JSON.stringify(cases.map((c) => c.loop)), encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 })
+if (run.error) sympyProblem = `${DEBIAN_PYTHON} did not run: ${run.error.message}`
+else if (run.status !== 0) sympyProblem = `bench-sympy.py failed (exit ${run.status}): ${run.stderr.trim().slice(-500)}`
+else sympy = JSON.parse(run.stdout)
+
+const rows = cases.map((c, i) => ({ ...c, engine: timeEngine(c.loop), sympy: sympy?.[i] ?? null }))
+
+// Memory of the largest case, around one evaluation: the heap in use just
+// after it (before any collection we ask for) over a collected baseline, a
+// lower bound of what it allocates (the young generation may be swept
+// mid-run); what stays after a full collection; and the process's peak RSS.
+// The collector is reached through V8's --expose-gc flag set at run time.
+setFlagsFromString('--expose-gc')
+const collect = runInNewContext('gc') as () => void
+const largest = cases[cases.length - 1]!
+collect()
+const heapBefore = process.memoryUsage().heapUsed
+evaluateLoop(largest.loop as never)
+const heapAfterRun = process.memoryUsage().heapUsed
+collect()
+const heapRetained = process.memoryUsage().heapUsed - heapBefore
+const peakRssMiB = process.resourceUsage().maxRSS / 1024
+
+const pad = (s: string, n: number) => s.padStart(n)
+console.log('Loopwright engine benchmark: median wall time of a full evaluateLoop vs sympy expanding the same closed loop')
+console.log(`node ${process.version}; sympy via ${DEBIAN_PYTHON} (cache cleared every repetition)\n`)
+console.log(`${'case'.padEnd(16)}${pad('terms', 7)}${pad('engine ms', 11)}${pad('runs', 6)}${pad('sympy ms', 10)}${pad('runs', 6)}${pad('engine/sympy', 14)}  target`)
+const verdicts: string[] = []
+for (const r of rows) {
+  let target = ''
+  if (r.lags === null) {
+    const pass = r.engine.medianMs <= 20
+    target = `${pass ? 'PASS' : 'FAIL'} (at most 20 ms)`
+    verdicts.push(`booster ≤ 20 ms: ${pass ? 'PASS' : 'FAIL'}`)
+  } else if (r.lags === 8) {
+    const pass = r.sympy !== null && r.engine.medianMs <= r.sympy.median_ms
+    target = r.sympy ? `${pass ? 'PASS' : 'FAIL'} (no slower than sympy)` : 'FAIL (sympy did not run)'
+    verdicts.push(`8 lags no slower than sympy: ${pass ? 'PASS' : 'FAIL'}`)
+  }
+  const ratio = r.sympy ? (r.engine.medianMs / r.sympy.median_ms).toFixed(3) : '-'
+  console.log(
+    `${r.name.padEnd(16)}${pad(r.sympy ? String(r.sympy.terms) : '-', 7)}${pad(r.engine.medianMs.toFixed(2), 11)}${pad(String(r.engine.reps), 6)}${pad(r.sympy ? r.sympy.median_ms.toFixed(2) : '-', 10)}${pad(r.sympy ? String(r.sympy.reps) : '-', 6)}${pad(ratio, 14)}  ${target}`,
+  )
+}
+
+// Growth: least-squares slope of log(time) against log(terms) over 6..10 lags.
+if (sympy) {
+  const pts = rows.filter((r) => r.lags !== null && r.lags >= 6).map((r) => [Math.log(r.sympy!.terms), Math.log(r.engine.medianMs)] as const)
+  const mx = pts.reduce((a, p) => a + p[0], 0) / pts.length
+  const my = pts.reduce((a, p) => a + p[1], 0) / pts.length
+  const slope = pts.reduce((a, p) => a + (p[0] - mx) * (p[1] - my), 0) / pts.reduce((a, p) => a + (p[0] - mx) ** 2, 0)
+  const pass = slope <= 1.25
+  console.log(`\ngrowth over 6–10 lags: engine time ∝ terms^${slope.toFixed(2)}  ${pass ? 'PASS' : 'FAIL'} (exponent at most 1.25)`)
+  verdicts.push(`growth with result size: ${pass ? 'PASS' : 'FAIL'}`)
+} else {
+  console.log(`\nsympy did not run, so no ratios and no growth check: ${sympyProblem}`)
+  verdicts.push('8 lags no slower than sympy: FAIL (not measured)', 'growth with result size: FAIL (not measured)')
+}
+const mib = (b: number) => (b / 1024 / 1024).toFixed(1)
+console.log(`memory, ${largest.name}: heap grew ${mib(heapAfterRun - heapBefore)} MiB during one evaluation (lower bound), ${mib(heapRetained)} MiB retained after collection; peak RSS of the bench process ${peakRssMiB.toFixed(0)} MiB`)
+const failed = verdicts.filter((v) => v.includes('FAIL'))
+console.log(`\n${failed.length === 0 ? 'All targets met.' : `${failed.length} target(s) not met: ${failed.join('; ')}.`} (The bench exits 0 either way: it reports, it does not gate.)`)
