@@ -64,37 +64,62 @@ export function stepResponse(num: number[], den: number[], options: DeadlineOpti
   const omega0 = magnitudes.length > 0 ? Math.exp(magnitudes.reduce((s, m) => s + Math.log(m), 0) / magnitudes.length) : 1
   const model = canonicalForm(b, d, omega0)
 
-  const horizonS = verdict === 'stable' ? stableHorizon(b, d, roots, finalValue as number) : unstableHorizon(roots)
+  const modes = verdict === 'stable' ? modeSizes(b, d, roots) : []
   const maxOscillation = Math.max(0, ...roots.map((r) => Math.abs(r.im)))
+  const tScale = 1 / omega0
 
-  let horizon = horizonS
-  let run: Simulation | null = null
-  for (let attempt = 0; attempt < 6; attempt++) {
+  // The horizon starts where every mode has fallen below the overshoot floor
+  // (so no later excursion past the final value can be missed); it grows if
+  // the last tenth has not settled, if the response is still above the final
+  // value and rising at the end, or if a mode alive at the end could exceed
+  // the peak found.
+  let horizon = verdict === 'stable' ? horizonFor(modes, roots, OVERSHOOT_FLOOR * Math.abs(finalValue as number), Math.abs(finalValue as number)) : unstableHorizon(roots)
+  let sim: Simulation | null = null
+  let metrics: StepMetrics = { ...NULL_METRICS }
+  for (let attempt = 0; attempt < 8; attempt++) {
     let h = horizon / MIN_SAMPLES
     if (maxOscillation > 0) h = Math.min(h, (2 * Math.PI) / maxOscillation / SAMPLES_PER_PERIOD)
     const count = Math.min(MAX_SAMPLES, Math.ceil(horizon / h))
     h = horizon / count
-    run = simulate(model, h * omega0, count, options, started)
-    if (finalValue === null || finalValue === 0) break
-    // Settled when the last tenth of the horizon keeps within half the band
-    // (the slowest mode only shrinks after that, so no later exit is possible).
-    const from = Math.floor(count * 0.9)
+    sim = simulate(model, h * omega0, count, options, started)
+    if (verdict !== 'stable' || finalValue === 0 || numeratorIsZero) break
+    const y0 = finalValue as number
+    // Settled when the last tenth keeps within half the band.
     let worst = 0
-    for (let k = from; k <= count; k++) worst = Math.max(worst, Math.abs(run.y[k] - finalValue))
-    if (worst <= 0.5 * SETTLING_BAND * Math.abs(finalValue)) break
-    horizon *= 2
+    for (let k = Math.floor(count * 0.9); k <= count; k++) worst = Math.max(worst, Math.abs(sim.y[k] - y0))
+    const atLimit = count === MAX_SAMPLES
+    if (worst > 0.5 * SETTLING_BAND * Math.abs(y0) && !atLimit) {
+      horizon *= 2
+      continue
+    }
+    // Still climbing above the final value at the end: the peak lies later.
+    let top = 0
+    for (let k = 1; k <= count; k++) if (sim.y[k] / y0 > sim.y[top] / y0) top = k
+    if (top === count && sim.y[count] / y0 - 1 > OVERSHOOT_FLOOR && !atLimit) {
+      horizon *= 1.5
+      continue
+    }
+    const attemptWarnings: string[] = []
+    metrics = measure(sim, model, y0, tScale, attemptWarnings, options, started)
+    const overshoot = (metrics.overshoot_pct ?? 0) / 100
+    if (overshoot > 0 && !atLimit) {
+      const needed = horizonFor(modes, roots, 0.9 * overshoot * Math.abs(y0), Math.abs(y0))
+      if (needed > horizon * 1.0001) {
+        horizon = needed
+        continue
+      }
+    }
+    warnings.push(...attemptWarnings)
+    break
   }
-  const sim = run as Simulation
-  const tScale = 1 / omega0
+  sim = sim as Simulation
 
-  let metrics: StepMetrics = { ...NULL_METRICS }
   if (verdict !== 'stable') {
+    metrics = { ...NULL_METRICS }
     warnings.push(`The closed loop is ${verdict}: its step response has no final value, so no step metrics are given.`)
   } else if (numeratorIsZero || finalValue === 0) {
     metrics = { ...NULL_METRICS, final_value: 0 }
     warnings.push('T(0) = 0: the final value is zero, so overshoot, rise and settling (fractions of the final value) are undefined.')
-  } else {
-    metrics = measure(sim, model, finalValue as number, tScale, warnings, options, started)
   }
 
   const plotEnd = plotHorizon(metrics, sim.count * sim.h * tScale)
@@ -326,32 +351,45 @@ function refineAfter(model: CanonicalForm, start: Float64Array, tauExtremum: num
   return (lo + hi) / 2
 }
 
-/**
- * Horizon for a stable loop: long enough for every mode to fall below a
- * tenth of the settling band. For distinct poles the step's partial
- * fractions give each mode's size r_i = num(p_i)/(p_i·den'(p_i)) and the
- * time ln(|r_i|/(0.002·|y∞|))/|Re p_i|; where poles repeat or the residue
- * cannot be taken, 10 + 3·(multiplicity − 1) time constants. The simulation
- * doubles the horizon if the last fifth has not settled.
- */
-function stableHorizon(num: number[], den: number[], roots: Array<{ re: number; im: number }>, finalValue: number): number {
-  let horizon = 0
+interface Mode {
+  decay: number
+  /** |residue| of Y(s) = T(s)/s at the pole (a bound on the mode's size), or NaN for a repeated pole. */
+  size: number
+  multiplicity: number
+}
+
+/** Partial-fraction sizes r_i = num(p_i)/(p_i·den'(p_i)) of the step response's modes. */
+function modeSizes(num: number[], den: number[], roots: Array<{ re: number; im: number }>): Mode[] {
   const derivative = den.slice(0, -1).map((c, i) => c * (den.length - 1 - i))
-  for (const r of roots) {
-    const decay = -r.re
-    const multiplicity = roots.filter((q) => q.re === r.re && Math.abs(q.im) === Math.abs(r.im)).length / (r.im === 0 ? 1 : 2)
-    let t = (10 + 3 * (Math.max(1, multiplicity) - 1)) / decay
-    if (multiplicity <= 1) {
+  return roots.map((r) => {
+    const multiplicity = roots.filter((q) => q.re === r.re && q.im === r.im).length
+    let size = Number.NaN
+    if (multiplicity === 1) {
       const nv = evaluateComplex(num, r.re, r.im)
       const dv = evaluateComplex(derivative, r.re, r.im)
-      const size = modulusOf(nv.re, nv.im) / (modulusOf(dv.re, dv.im) * modulusOf(r.re, r.im))
-      const ratio = size / (0.1 * SETTLING_BAND * Math.abs(finalValue))
-      if (Number.isFinite(ratio)) t = ratio > 1 ? Math.log(ratio) / decay : 0
+      size = modulusOf(nv.re, nv.im) / (modulusOf(dv.re, dv.im) * modulusOf(r.re, r.im))
     }
+    return { decay: -r.re, size, multiplicity }
+  })
+}
+
+/**
+ * Time after which |y(t) − y∞| ≤ Σ|r_i|e^{Re p_i·t} stays below `level`: each
+ * mode's ln(|r_i|/level)/|Re p_i| (distinct poles, where the bound is exact);
+ * a repeated pole, whose residues cannot be taken, gets ln(|y∞|·10/level)·
+ * (1 + 0.3·(multiplicity − 1)) time constants. Never shorter than five time
+ * constants of the fastest pole.
+ */
+function horizonFor(modes: Mode[], roots: Array<{ re: number; im: number }>, level: number, scale: number): number {
+  let horizon = 0
+  for (const m of modes) {
+    let t: number
+    if (Number.isFinite(m.size)) t = m.size > level ? Math.log(m.size / level) / m.decay : 0
+    else t = (Math.max(Math.log(1e4), Math.log((10 * scale) / Math.max(level, 1e-300))) * (1 + 0.3 * (m.multiplicity - 1))) / m.decay
     horizon = Math.max(horizon, t)
   }
   const fastest = Math.max(...roots.map((r) => modulusOf(r.re, r.im)))
-  return Math.max(1.5 * horizon, 5 / fastest)
+  return Math.max(horizon, 5 / fastest)
 }
 
 /** Plot horizon of a loop without a final value: ten times the slowest non-zero pole's time scale. */
