@@ -20,7 +20,8 @@
  *   the chosen one, a rounding-level difference may pick either: that margin
  *   and its crossover are excluded. Also excluded: a chosen crossing within a
  *   factor 100 of the reference's search band ends, two crossings of one kind
- *   within 0.1 % in frequency (near-tangent), and L(0) on the negative real axis.
+ *   within 0.1 % in frequency (near-tangent). L(0) on the negative real axis
+ *   is not excluded: the contract counts crossings at ω > 0 only, and so do both.
  * - Step: overshoot below 0.01 % (relative comparison meaningless), two peaks
  *   within 0.1 % of the overshoot in height (peak time ambiguous), a local
  *   extremum within 0.1 % of the 10 % or 90 % level before its first crossing
