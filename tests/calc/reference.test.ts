@@ -88,6 +88,8 @@ describe(`engine vs the sympy/numpy/scipy reference on ${loops.length} random lo
     expect(count((r) => r.open_loop === null)).toBeGreaterThan(20)
     // Conditioning: numpy's roots agree with mpmath at 30 digits far inside the pole tolerance.
     expect(Math.max(...reference.map((r) => r.reference.roots_vs_mpmath))).toBeLessThan(1e-10)
+    // The reference's sampled step response agrees with scipy.signal.step (relative to the final value).
+    expect(Math.max(...reference.flatMap((r) => (r.reference.step ? [r.reference.step.vs_scipy_step] : [])))).toBeLessThan(1e-8)
   })
 
   it('the engine evaluated every loop', () => {
