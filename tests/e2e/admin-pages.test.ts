@@ -83,3 +83,58 @@ describe('administration pages', () => {
     expect(await textOf(page, '[data-error-for=firm-name]')).toBe('A name has at least 2 characters')
   })
 })
+
+describe('changing a person', () => {
+  it('changes roles, deactivates and reactivates, as the API then reports', async () => {
+    const { api, apiSignIn } = await import('./api')
+    const cookie = await apiSignIn(admin.email, demoPassword)
+    const email = `linnea.farrow.${Date.now()}@example.com`
+    const invited = await api<{ id: number }>(cookie, '/api/people/invite', {
+      method: 'POST',
+      body: { name: 'Linnea Farrow', email, roles: ['engineer'] },
+    })
+    expect(invited.status).toBe(201)
+    const read = async () =>
+      (await api<{ items: Array<{ roles: string[]; status: string }> }>(cookie, `/api/people?q=${encodeURIComponent(email)}`)).body.items[0]!
+
+    await page.goto(`${baseUrl()}/people?q=${encodeURIComponent(email)}`, { waitUntil: 'networkidle0' })
+    const row = `tr[data-row="${invited.body.id}"]`
+    await page.waitForSelector(row)
+    await page.click(`${row} button[aria-expanded]`)
+    await page.waitForSelector(`[data-roles-editor="${invited.body.id}"]`)
+    await screenshot(page, 'people-roles-editor')
+
+    // No role at all is refused by personUpdateSchema before anything is sent.
+    await page.click(`[data-roles-editor="${invited.body.id}"] input[value=engineer]`)
+    await page.click(`[data-roles-editor="${invited.body.id}"] button[type=submit]`)
+    await page.waitForSelector(`[data-error-for="roles-${invited.body.id}"]`)
+    expect(await textOf(page, `[data-error-for="roles-${invited.body.id}"]`)).toBe('Choose at least one role')
+    expect((await read()).roles).toEqual(['engineer'])
+
+    await page.click(`[data-roles-editor="${invited.body.id}"] input[value=engineer]`)
+    await page.click(`[data-roles-editor="${invited.body.id}"] input[value=checker]`)
+    await Promise.all([
+      page.waitForResponse((response) => response.request().method() === 'PATCH'),
+      page.click(`[data-roles-editor="${invited.body.id}"] button[type=submit]`),
+    ])
+    await page.waitForSelector('[data-testid=people-notice][data-notice=sound]')
+    expect([...(await read()).roles].sort()).toEqual(['checker', 'engineer'])
+
+    await page.click(`${row} .lw-button-risk`)
+    await Promise.all([
+      page.waitForResponse((response) => response.request().method() === 'PATCH'),
+      page.click(`[data-confirm-deactivate="${invited.body.id}"]`),
+    ])
+    await page.waitForSelector(`${row} [data-status=deactivated]`)
+    expect((await read()).status).toBe('deactivated')
+    await screenshot(page, 'people-deactivated')
+
+    await Promise.all([
+      page.waitForResponse((response) => response.request().method() === 'PATCH'),
+      page.$$eval(`${row} button`, (buttons) => (buttons.find((b) => b.textContent?.includes('Reactivate')) as HTMLButtonElement).click()),
+    ])
+    await page.waitForFunction((selector) => !document.querySelector(`${selector} [data-status=deactivated]`), {}, row)
+    // An invited person who has not chosen a password yet goes back to "invited", not "active".
+    expect((await read()).status).toBe('invited')
+  })
+})
