@@ -15,6 +15,7 @@
  */
 import { spawnSync } from 'node:child_process'
 import { readFileSync } from 'node:fs'
+import { cpus, loadavg } from 'node:os'
 import { fileURLToPath } from 'node:url'
 import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
@@ -96,7 +97,9 @@ const peakRssMiB = process.resourceUsage().maxRSS / 1024
 
 const pad = (s: string, n: number) => s.padStart(n)
 console.log('Loopwright engine benchmark: median wall time of a full evaluateLoop vs sympy expanding the same closed loop')
-console.log(`node ${process.version}; sympy via ${DEBIAN_PYTHON} (cache cleared every repetition)\n`)
+console.log(`node ${process.version}; sympy via ${DEBIAN_PYTHON} (cache cleared every repetition)`)
+// Other work on the machine inflates every time: the load is printed so a reader can judge.
+console.log(`${cpus().length} cores, load average ${loadavg().map((x) => x.toFixed(2)).join(' ')} (1, 5, 15 min)\n`)
 console.log(`${'case'.padEnd(16)}${pad('terms', 7)}${pad('engine ms', 11)}${pad('runs', 6)}${pad('sympy ms', 10)}${pad('runs', 6)}${pad('engine/sympy', 14)}  target`)
 const verdicts: string[] = []
 for (const r of rows) {
