@@ -98,6 +98,19 @@ describe('stepResponse', () => {
     expect(r.metrics.peak_time_s).toBeNull()
   })
 
+  it('hands the plot exact samples of the response, and takes the poles when the caller has them', () => {
+    // Source: closed form of K/(τs + 1): y = K(1 − e^{−t/τ}).
+    const r = stepResponse([2.5], [4, 1])
+    expect(r.t.length).toBeGreaterThanOrEqual(300)
+    r.t.forEach((t, i) => expect(r.y[i]).toBeCloseTo(2.5 * (1 - Math.exp(-t / 4)), 10))
+    // Source: the booster example's closed loop (shared/examples/expected/booster-pressure.json) with its reference poles.
+    const ref = expected('booster-pressure')
+    const own = stepResponse(ref.closed_loop.num, ref.closed_loop.den)
+    const given = stepResponse(ref.closed_loop.num, ref.closed_loop.den, { poles: ref.poles })
+    within(given.metrics.settling_time_s, own.metrics.settling_time_s as number, 1e-9)
+    within(given.metrics.rise_time_s, own.metrics.rise_time_s as number, 1e-9)
+  })
+
   it('handles a repeated pole with a right-half-plane zero: (1 − s)/(s + 1)^2', () => {
     // Source: closed form by partial fractions, y = 1 − e^{−t} − 2t·e^{−t}, which starts downwards and never passes 1.
     const r = stepResponse([-1, 1], [1, 2, 1])
