@@ -1,6 +1,6 @@
 import { stabilityMargins } from './margins'
 import { cornerFrequencies, factorRational, nearestBranch, nextSample, rationalMagnitude, rationalPhase } from './open-loop-phase'
-import type { Complex, FrequencyResponse, OpenLoop } from './types'
+import type { Complex, FrequencyResponse, Margins, OpenLoop } from './types'
 
 /** Points of the Bode plot unless the caller asks otherwise. */
 export const DEFAULT_POINTS = 400
@@ -14,9 +14,10 @@ export const DEFAULT_POINTS = 400
  * unwrapping); for other structures `at` is sampled and unwrapped, with extra
  * points wherever neighbours differ by more than 30°.
  */
-export function frequencyResponse(openLoop: OpenLoop, points = DEFAULT_POINTS): FrequencyResponse {
+export function frequencyResponse(openLoop: OpenLoop, points = DEFAULT_POINTS, known?: Margins): FrequencyResponse {
   const factors = factorRational(openLoop.num, openLoop.den)
-  const margins = stabilityMargins(openLoop)
+  // The caller's margins of the same loop, when it has them, spare a second search.
+  const margins = known ?? stabilityMargins(openLoop)
   const marks = [...cornerFrequencies(factors), ...margins.crossings.gain, ...margins.crossings.phase.slice(0, 3)]
   if (openLoop.delay_s) marks.push(1 / openLoop.delay_s)
   const positive = marks.filter((w) => w > 0 && Number.isFinite(w))
