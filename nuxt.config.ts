@@ -21,6 +21,8 @@ export default defineNuxtConfig({
     public: { appName: 'Loopwright', siteUrl: '' },
   },
   typescript: { strict: true },
+  // The loop templates engineers start from, bundled into the server (resolved from server/, hence ../).
+  nitro: { serverAssets: [{ baseName: 'sheets', dir: '../sheets' }] },
   hooks: {
     // The calculation engine runs in worker threads (server/utils/calc-pool.ts),
     // which start from a file of their own: bundle it after every server build.

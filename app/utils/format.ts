@@ -1,0 +1,82 @@
+// THE number formatter of every calculation screen (style.md, "One way through"): significant
+// figures, the true minus sign, powers of ten past the readable range, the unit after the number,
+// and "none" where the result holds null, with the reason the engine gave in its warnings.
+
+export interface NumberFormat {
+  /** Significant figures (default 4). */
+  digits?: number
+  /** Unit written after the number: "s", "rad/s", "dB", "°", "%". */
+  unit?: string
+  /** Words for a missing value (default "none"). */
+  none?: string
+}
+
+const MINUS = '\u2212'
+const SUPERSCRIPT: Record<string, string> = { '-': '⁻', '0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹' }
+// Below 1e-4 or from 1e6 up a plain decimal is hard to read in a table: write a power of ten.
+const PLAIN_BELOW = 1e6
+const PLAIN_FROM = 1e-4
+
+interface Parts {
+  negative: boolean
+  mantissa: string
+  exponent: number | null
+}
+
+function stripZeros(decimal: string) {
+  return decimal.includes('.') ? decimal.replace(/0+$/, '').replace(/\.$/, '') : decimal
+}
+
+function numberParts(value: number, digits: number): Parts {
+  const negative = value < 0
+  const magnitude = Math.abs(value)
+  if (magnitude === 0) return { negative: false, mantissa: '0', exponent: null }
+  const rounded = Number(magnitude.toPrecision(digits))
+  if (rounded >= PLAIN_FROM && rounded < PLAIN_BELOW) {
+    return { negative, mantissa: stripZeros(rounded.toFixed(Math.max(0, digits - 1 - Math.floor(Math.log10(rounded))))), exponent: null }
+  }
+  const [mantissa, exponent] = magnitude.toExponential(digits - 1).split('e')
+  return { negative, mantissa: stripZeros(mantissa!), exponent: Number(exponent) }
+}
+
+function unitAfter(text: string, unit: string | undefined) {
+  if (!unit) return text
+  return unit === '°' || unit === '%' ? `${text}${unit}` : `${text}\u00a0${unit}`
+}
+
+/** A number for a screen or the print page. */
+export function formatNumber(value: number | null | undefined, options: NumberFormat = {}): string {
+  if (value === null || value === undefined || Number.isNaN(value)) return options.none ?? 'none'
+  if (!Number.isFinite(value)) return unitAfter(value > 0 ? '∞' : `${MINUS}∞`, options.unit)
+  const { negative, mantissa, exponent } = numberParts(value, options.digits ?? 4)
+  const power = exponent === null ? '' : `\u00a0×\u00a010${[...String(exponent)].map((c) => SUPERSCRIPT[c]).join('')}`
+  return unitAfter(`${negative ? MINUS : ''}${mantissa}${power}`, options.unit)
+}
+
+/** The same number as TeX, for formulas the typesetter draws (app/components/calc/Tex.vue). */
+export function formatNumberTex(value: number, digits = 4): string {
+  if (!Number.isFinite(value)) return value > 0 ? '\\infty' : '-\\infty'
+  const { negative, mantissa, exponent } = numberParts(value, digits)
+  return `${negative ? '-' : ''}${mantissa}${exponent === null ? '' : ` \\times 10^{${exponent}}`}`
+}
+
+/** A polynomial in s from its coefficients, highest power first, in TeX (zero terms left out). */
+export function polynomialTex(coefficients: readonly number[], digits = 4): string {
+  const degree = coefficients.length - 1
+  const terms: string[] = []
+  coefficients.forEach((coefficient, index) => {
+    if (coefficient === 0) return
+    const power = degree - index
+    const size = formatNumberTex(Math.abs(coefficient), digits)
+    const variable = power === 0 ? '' : power === 1 ? 's' : `s^{${power}}`
+    const body = variable && size === '1' ? variable : `${size}${variable ? ` ${variable}` : ''}`
+    const sign = coefficient < 0 ? '-' : '+'
+    terms.push(terms.length === 0 ? (sign === '-' ? `-${body}` : body) : `${sign} ${body}`)
+  })
+  return terms.length ? terms.join(' ') : '0'
+}
+
+/** The engine's sentence that says why a quantity is missing, found by what it is about. */
+export function reasonFor(warnings: readonly string[], about: RegExp): string | null {
+  return warnings.find((sentence) => about.test(sentence)) ?? null
+}
