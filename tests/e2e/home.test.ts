@@ -19,6 +19,14 @@ describe('home page per role', () => {
     await page.goto(`${baseUrl()}/people`, { waitUntil: 'networkidle0' })
     expect(new URL(page.url()).pathname).toBe('/sign-in')
     expect(await page.$('#email')).not.toBeNull()
+    // The interface face is the one shipped in the build, loaded from this app (browser.ts refuses any other host).
+    const loaded = await page.evaluate(async () => {
+      await document.fonts.ready
+      return [...document.fonts].filter((face) => face.status === 'loaded').map((face) => face.family.replace(/"/g, ''))
+    })
+    expect(loaded).toContain('Noto Sans')
+    expect(loaded).toContain('Noto Serif')
+    expect(await page.$eval('body', (body) => getComputedStyle(body).fontFamily)).toMatch(/^"?Noto Sans"?/)
     await screenshot(page, 'sign-in')
     await page.close()
   })
