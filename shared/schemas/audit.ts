@@ -1,3 +1,4 @@
+import { z } from 'zod'
 import { listQuerySchema } from './lists'
 
 /** GET /api/audit */
@@ -21,3 +22,9 @@ export interface AuditRow {
   ip: string | null
   detail: Record<string, unknown>
 }
+
+/** POST /api/audit/page-refusals: the screen reports a page it refused to open (app/middleware/role.ts). */
+export const pageRefusalSchema = z.object({
+  page: z.string().trim().min(1).max(300).startsWith('/'),
+  roles: z.array(z.string().trim().min(1).max(40)).max(10),
+})

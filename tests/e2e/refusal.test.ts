@@ -60,4 +60,22 @@ describe('refusal of pages a role may not open', () => {
     expect(trail.status).toBe(200)
     expect(trail.body.items.some((row) => row.actorEmail === client.email && row.status === 403 && row.path?.startsWith('/api/people'))).toBe(true)
   })
+
+  it('writes the refused page itself to the audit trail', async () => {
+    const page = await chromium.newPage()
+    await signIn(page, baseUrl(), client.email, demoPassword)
+    const response = await page.goto(`${baseUrl()}/audit`, { waitUntil: 'networkidle0' })
+    expect(response?.status()).toBe(403)
+    await page.close()
+
+    const adminCookie = await apiSignIn(admin.email, demoPassword)
+    const trail = await api<{ items: Array<{ actorEmail: string | null; action: string; status: number | null; detail: { page?: string } }> }>(
+      adminCookie,
+      `/api/audit?sort=at&dir=desc&pageSize=50`,
+    )
+    expect(trail.status).toBe(200)
+    expect(
+      trail.body.items.some((row) => row.actorEmail === client.email && row.action === 'page.refused' && row.status === 403 && row.detail.page === '/audit'),
+    ).toBe(true)
+  })
 })
