@@ -108,4 +108,35 @@ describe('loop workbench', () => {
     await screenshot(page, 'workbench-fixed')
     await page.close()
   })
+
+  it('says plainly when the computation stops at its time limit', async () => {
+    // Sixteen lags in series, each time constant banded: 65 536 tolerance corners, far past the engine's time limit.
+    const lags = Array.from({ length: 16 }, (_, i) => i + 1)
+    const heavy = {
+      title: 'Sixteen banded lags',
+      parameters: { K: { value: 0.5 }, ...Object.fromEntries(lags.map((i) => [`T${i}`, { value: 1 + 0.1 * i, min: 0.9 + 0.1 * i, max: 1.1 + 0.1 * i }])) },
+      blocks: { K: { role: 'controller', label: 'Gain', num: 'K' }, ...Object.fromEntries(lags.map((i) => [`G${i}`, { role: 'plant', label: `Lag ${i}`, num: '1', den: `T${i}*s + 1` }])) },
+      structure: { feedback: { forward: { series: ['K', ...lags.map((i) => `G${i}`)] }, return: null, sign: -1 } },
+    }
+    const page = await chromium.newPage()
+    await signIn(page, baseUrl(), engineer, demoPassword)
+    await page.goto(`${baseUrl()}/workbench`, { waitUntil: 'networkidle0' })
+    await page.waitForSelector('[data-testid=result][data-stale=false]')
+    // Pasted in one go, as a person would paste a file.
+    await page.$eval(
+      '[data-testid=loop-text]',
+      (area, text) => {
+        const field = area as HTMLTextAreaElement
+        field.value = text
+        field.dispatchEvent(new Event('input', { bubbles: true }))
+      },
+      JSON.stringify(heavy, null, 2),
+    )
+    await page.waitForSelector('[data-testid=computing]')
+    await page.waitForSelector('[data-testid=loop-problem]', { timeout: 30_000 })
+    expect(await textOf(page, '[data-testid=loop-problem]')).toMatch(/stopped at its time limit/)
+    expect(await page.$('[data-testid=result][data-stale=true]')).not.toBeNull()
+    await screenshot(page, 'workbench-time-limit')
+    await page.close()
+  })
 })
