@@ -19,6 +19,7 @@ import { cpus, loadavg } from 'node:os'
 import { fileURLToPath } from 'node:url'
 import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
+import nerdamer from 'nerdamer'
 import { evaluateLoop } from '../shared/calc/index'
 
 const DEBIAN_PYTHON = '/usr/bin/python3'
@@ -77,7 +78,32 @@ if (run.error) sympyProblem = `${DEBIAN_PYTHON} did not run: ${run.error.message
 else if (run.status !== 0) sympyProblem = `bench-sympy.py failed (exit ${run.status}): ${run.stderr.trim().slice(-500)}`
 else sympy = JSON.parse(run.stdout)
 
-const rows = cases.map((c, i) => ({ ...c, engine: timeEngine(c.loop), sympy: sympy?.[i] ?? null }))
+/**
+ * nerdamer (the brief's candidate for the algebra), expanding the same closed-loop
+ * denominator K + (T1 s + 1)…(Tn s + 1): measured here so the choice of our own
+ * multinomial arithmetic (shared/calc/multinomial.ts) rests on a figure of this run.
+ * Up to 8 lags only, one run each beyond 5 lags: it takes seconds there.
+ */
+function timeNerdamer(n: number): number | null {
+  if (n > 8) return null
+  const den = `K + ${Array.from({ length: n }, (_, i) => `(T${i + 1}*s + 1)`).join('*')}`
+  const reps = n <= 5 ? 5 : 1
+  const times: number[] = []
+  for (let i = 0; i < reps; i++) {
+    nerdamer.clear('all')
+    const t0 = performance.now()
+    nerdamer(`expand(${den})`)
+    times.push(performance.now() - t0)
+  }
+  return median(times)
+}
+
+const rows = cases.map((c, i) => ({
+  ...c,
+  engine: timeEngine(c.loop),
+  sympy: sympy?.[i] ?? null,
+  nerdamerMs: c.lags === null ? null : timeNerdamer(c.lags),
+}))
 
 // Memory of the largest case, around one evaluation: the heap in use just
 // after it (before any collection we ask for) over a collected baseline, a
@@ -100,7 +126,7 @@ console.log('Loopwright engine benchmark: median wall time of a full evaluateLoo
 console.log(`node ${process.version}; sympy via ${DEBIAN_PYTHON} (cache cleared every repetition)`)
 // Other work on the machine inflates every time: the load is printed so a reader can judge.
 console.log(`${cpus().length} cores, load average ${loadavg().map((x) => x.toFixed(2)).join(' ')} (1, 5, 15 min)\n`)
-console.log(`${'case'.padEnd(16)}${pad('terms', 7)}${pad('engine ms', 11)}${pad('runs', 6)}${pad('sympy ms', 10)}${pad('runs', 6)}${pad('engine/sympy', 14)}  target`)
+console.log(`${'case'.padEnd(16)}${pad('terms', 7)}${pad('engine ms', 11)}${pad('runs', 6)}${pad('sympy ms', 10)}${pad('runs', 6)}${pad('engine/sympy', 14)}${pad('nerdamer ms', 13)}  target`)
 const verdicts: string[] = []
 for (const r of rows) {
   let target = ''
@@ -115,7 +141,7 @@ for (const r of rows) {
   }
   const ratio = r.sympy ? (r.engine.medianMs / r.sympy.median_ms).toFixed(3) : '-'
   console.log(
-    `${r.name.padEnd(16)}${pad(r.sympy ? String(r.sympy.terms) : '-', 7)}${pad(r.engine.medianMs.toFixed(2), 11)}${pad(String(r.engine.reps), 6)}${pad(r.sympy ? r.sympy.median_ms.toFixed(2) : '-', 10)}${pad(r.sympy ? String(r.sympy.reps) : '-', 6)}${pad(ratio, 14)}  ${target}`,
+    `${r.name.padEnd(16)}${pad(r.sympy ? String(r.sympy.terms) : '-', 7)}${pad(r.engine.medianMs.toFixed(2), 11)}${pad(String(r.engine.reps), 6)}${pad(r.sympy ? r.sympy.median_ms.toFixed(2) : '-', 10)}${pad(r.sympy ? String(r.sympy.reps) : '-', 6)}${pad(ratio, 14)}${pad(r.nerdamerMs === null ? '-' : r.nerdamerMs.toFixed(1), 13)}  ${target}`,
   )
 }
 

@@ -186,7 +186,7 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
   if (stability === 'stable') {
     if (num.length > den.length) warnings.push('T(s) has more zeros than poles (improper): no step response.')
     else {
-      const response = stepResponse(num, den, { deadline: deadline.at, limitMs: deadline.limitMs })
+      const response = stepResponse(num, den, { deadline: deadline.at, limitMs: deadline.limitMs, poles })
       step = response.metrics
       stepPlot = { t: response.t, y: response.y }
       warnings.push(...response.warnings)

@@ -34,6 +34,8 @@ const NULL_METRICS: StepMetrics = { final_value: null, overshoot_pct: null, peak
 export interface StepOptions extends DeadlineOption {
   /** Roots of `den` when the caller has them already (saves finding them again); any order. */
   poles?: Array<{ re: number; im: number }>
+  /** false: metrics only, no sampled curve (tolerance corners need no plot; it is a third of the cost). */
+  plot?: boolean
 }
 
 export function stepResponse(num: number[], den: number[], options: StepOptions = {}): StepResponse {
@@ -128,6 +130,7 @@ export function stepResponse(num: number[], den: number[], options: StepOptions 
     warnings.push('T(0) = 0: the final value is zero, so overshoot, rise and settling (fractions of the final value) are undefined.')
   }
 
+  if (options.plot === false) return { metrics, t: [], y: [], warnings }
   // The plot: PLOT_TARGET uniform points to 1.5 × the settling time, stepped
   // exactly by their own matrix exponential.
   const plotEnd = plotHorizon(metrics, sim.count * sim.h * tScale)

@@ -82,7 +82,7 @@ export function toleranceCorners(loop: LoopFile, parameters: LoopParameters, mod
       let step = null
       if (needStep && stability === 'stable' && num.length <= den.length) {
         const t = normalised(num, den)
-        step = stepResponse(t.num, t.den, { deadline: deadline.at, limitMs: deadline.limitMs }).metrics
+        step = stepResponse(t.num, t.den, { deadline: deadline.at, limitMs: deadline.limitMs, poles, plot: false }).metrics
       }
       performance = { stability, margins, step, steady_state_error: stability === 'stable' ? steadyStateErrorsApprox(ascendingNum, ascendingDen) : { step: null, ramp: null } }
     }
