@@ -12,7 +12,7 @@ export interface CalcRequest {
 
 export type CalcReply =
   | { id: number; ok: true; result: unknown }
-  | { id: number; ok: false; kind: 'input' | 'timeout' | 'engine'; field?: string; message: string }
+  | { id: number; ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine'; field?: string; message: string }
 
 interface Job {
   request: CalcRequest
@@ -59,7 +59,7 @@ class CalcPool {
 
   run(text: string): Promise<CalcReply> {
     if (this.queue.length >= queueLimit) {
-      return Promise.resolve({ id: 0, ok: false, kind: 'engine', message: 'The calculation service is busy; try again in a moment.' })
+      return Promise.resolve({ id: 0, ok: false, kind: 'busy', message: 'The calculation service is busy; try again in a moment.' })
     }
     return new Promise((resolve) => {
       this.queue.push({ request: { id: this.nextId++, text, deadlineMs: calcTimeLimitMs }, resolve })
@@ -82,7 +82,7 @@ class CalcPool {
     const slot: Slot = { worker: new Worker(workerPath()), job: null, timer: null }
     slot.worker.unref()
     slot.worker.on('message', (reply: CalcReply) => this.finish(slot, reply))
-    slot.worker.on('error', (error) => this.replace(slot, `The calculation failed: ${error.message}`))
+    slot.worker.on('error', (error: Error) => this.replace(slot, `The calculation failed: ${error.message}`))
     return slot
   }
 

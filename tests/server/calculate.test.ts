@@ -62,6 +62,16 @@ describe('POST /api/calculate', () => {
     const padded = { ...booster, title: 'x'.repeat(300 * 1024) }
     const answer = await engineer.post('/api/calculate', padded)
     expect(answer.status).toBe(400)
+    expect(answer.body.data.field).toBe('file')
+  })
+
+  it('answers 400 for a body of several MiB without computing it', async () => {
+    const engineer = await signedIn(demo.engineer)
+    const huge = { ...booster, title: 'x'.repeat(5 * 1024 * 1024) }
+    const answer = await engineer.post('/api/calculate', huge)
+    expect(answer.status).toBe(400)
+    expect(answer.body.data.field).toBe('file')
+    expect(answer.body.message).toMatch(/above the limit of 256 KiB/)
   })
 })
 
