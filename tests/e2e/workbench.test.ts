@@ -95,6 +95,9 @@ describe('loop workbench', () => {
     await page.waitForSelector('[data-testid=loop-problem]')
     const problem = await textOf(page, '[data-testid=loop-problem]')
     expect(problem).toContain('blocks.P.den')
+    expect(problem).toContain('"s^" is not a complete expression')
+    // The field is named once, in the notice's heading, not again in front of the message.
+    expect(problem.split('blocks.P.den').length - 1).toBe(1)
     expect(await page.$eval('[data-testid=loop-text]', (area) => area.getAttribute('aria-invalid'))).toBe('true')
     expect(await page.$('[data-testid=result][data-stale=true]')).not.toBeNull()
     await screenshot(page, 'workbench-bad-input')
