@@ -1,6 +1,7 @@
 // THE number formatter of every calculation screen (style.md, "One way through"): significant
 // figures, the true minus sign, powers of ten past the readable range, the unit after the number,
 // and "none" where the result holds null, with the reason the engine gave in its warnings.
+// Formulas are typeset by the engine (shared/calc/tex.ts) and drawn by app/components/calc/Tex.vue, never here.
 
 export interface NumberFormat {
   /** Significant figures (default 4). */
@@ -51,29 +52,6 @@ export function formatNumber(value: number | null | undefined, options: NumberFo
   const { negative, mantissa, exponent } = numberParts(value, options.digits ?? 4)
   const power = exponent === null ? '' : `\u00a0×\u00a010${[...String(exponent)].map((c) => SUPERSCRIPT[c]).join('')}`
   return unitAfter(`${negative ? MINUS : ''}${mantissa}${power}`, options.unit)
-}
-
-/** The same number as TeX, for formulas the typesetter draws (app/components/calc/Tex.vue). */
-export function formatNumberTex(value: number, digits = 4): string {
-  if (!Number.isFinite(value)) return value > 0 ? '\\infty' : '-\\infty'
-  const { negative, mantissa, exponent } = numberParts(value, digits)
-  return `${negative ? '-' : ''}${mantissa}${exponent === null ? '' : ` \\times 10^{${exponent}}`}`
-}
-
-/** A polynomial in s from its coefficients, highest power first, in TeX (zero terms left out). */
-export function polynomialTex(coefficients: readonly number[], digits = 4): string {
-  const degree = coefficients.length - 1
-  const terms: string[] = []
-  coefficients.forEach((coefficient, index) => {
-    if (coefficient === 0) return
-    const power = degree - index
-    const size = formatNumberTex(Math.abs(coefficient), digits)
-    const variable = power === 0 ? '' : power === 1 ? 's' : `s^{${power}}`
-    const body = variable && size === '1' ? variable : `${size}${variable ? ` ${variable}` : ''}`
-    const sign = coefficient < 0 ? '-' : '+'
-    terms.push(terms.length === 0 ? (sign === '-' ? `-${body}` : body) : `${sign} ${body}`)
-  })
-  return terms.length ? terms.join(' ') : '0'
 }
 
 /** The engine's sentence that says why a quantity is missing, found by what it is about. */
