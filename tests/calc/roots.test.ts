@@ -2,26 +2,11 @@ import { readFileSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import { describe, expect, it } from 'vitest'
 import { polynomialRoots } from '#shared/calc/roots'
+import { fromRoots } from './support/polynomials'
 import type { Root } from '#shared/calc/types'
 
 const examples = fileURLToPath(new URL('../../../shared/examples/expected/', import.meta.url))
 const expected = (name: string) => JSON.parse(readFileSync(`${examples}${name}.json`, 'utf8'))
-
-/** Product of (s − r) over complex roots, real coefficients returned, highest power first. */
-function fromRoots(roots: Array<[number, number]>): number[] {
-  let p: Array<[number, number]> = [[1, 0]]
-  for (const [a, b] of roots) {
-    const q: Array<[number, number]> = Array.from({ length: p.length + 1 }, () => [0, 0])
-    p.forEach(([re, im], i) => {
-      q[i][0] += re
-      q[i][1] += im
-      q[i + 1][0] -= a * re - b * im
-      q[i + 1][1] -= a * im + b * re
-    })
-    p = q
-  }
-  return p.map(([re]) => re)
-}
 
 /** Largest relative distance from each expected root to the nearest computed one. */
 function worstRelativeError(got: Root[], want: Array<[number, number]>): number {

@@ -1,25 +1,10 @@
 import { describe, expect, it } from 'vitest'
 import { polynomialRoots } from '#shared/calc/roots'
+import { fromRoots } from './support/polynomials'
 import { routhArray } from '#shared/calc/routh'
 import { stabilityVerdict } from '#shared/calc/stability'
 
 const verdict = (den: number[]) => stabilityVerdict(den, routhArray(den), polynomialRoots(den))
-
-/** Real coefficients of Π (s − r) over complex roots, highest power first. */
-function fromRoots(roots: Array<[number, number]>): number[] {
-  let p: Array<[number, number]> = [[1, 0]]
-  for (const [a, b] of roots) {
-    const q: Array<[number, number]> = Array.from({ length: p.length + 1 }, () => [0, 0])
-    p.forEach(([re, im], i) => {
-      q[i][0] += re
-      q[i][1] += im
-      q[i + 1][0] -= a * re - b * im
-      q[i + 1][1] -= a * im + b * re
-    })
-    p = q
-  }
-  return p.map(([re]) => re)
-}
 
 describe('routhArray', () => {
   it('counts two right-half-plane roots of s^3 + 10s^2 + 31s + 1030', () => {
