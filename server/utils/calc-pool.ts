@@ -1,7 +1,6 @@
 import { existsSync } from 'node:fs'
 import { availableParallelism } from 'node:os'
 import { dirname, join } from 'node:path'
-import { fileURLToPath } from 'node:url'
 import { Worker } from 'node:worker_threads'
 
 export interface CalcRequest {
@@ -31,13 +30,10 @@ export const calcTimeLimitMs = Number(process.env.NUXT_CALC_TIME_LIMIT_MS) || 10
 const queueLimit = 64
 
 function workerPath(): string {
-  // Built app: `.output/server/calc-worker.mjs`, beside index.mjs; dev: `.nuxt/calc-worker.mjs`.
+  // nuxt.config.ts bundles it beside the built server's index.mjs, and into .nuxt/ for `nuxt dev`.
   const candidates = [
     process.env.LOOPWRIGHT_CALC_WORKER,
     join(dirname(process.argv[1] ?? ''), 'calc-worker.mjs'),
-    join(dirname(fileURLToPath(import.meta.url)), 'calc-worker.mjs'),
-    join(dirname(fileURLToPath(import.meta.url)), '..', 'calc-worker.mjs'),
-    join(process.cwd(), '.output', 'server', 'calc-worker.mjs'),
     join(process.cwd(), '.nuxt', 'calc-worker.mjs'),
   ].filter((path): path is string => Boolean(path))
   const found = candidates.find((path) => existsSync(path))
