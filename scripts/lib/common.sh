@@ -2,15 +2,18 @@
 # Sourced, not run.
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)"
 DATA="$ROOT/.data"
-PG_PORT=54329
+# LOOPWRIGHT_PORT_OFFSET shifts every port at once, so two checkouts on one machine (say, two worktrees)
+# can each run their services and tests side by side. Default 0: the ports of DEVELOPERS.md.
+PORT_OFFSET="${LOOPWRIGHT_PORT_OFFSET:-0}"
+PG_PORT=$((54329 + PORT_OFFSET))
 PG_ROLE=loopwright
 APP_HOST=127.0.0.1
-APP_PORT=3000
-TEST_APP_PORT=3199
-SMTP_PORT=2525
-MAIL_HTTP_PORT=2580
-TEST_SMTP_PORT=2526
-TEST_MAIL_HTTP_PORT=2581
+APP_PORT=$((3000 + PORT_OFFSET))
+TEST_APP_PORT=$((3199 + PORT_OFFSET))
+SMTP_PORT=$((2525 + PORT_OFFSET))
+MAIL_HTTP_PORT=$((2580 + PORT_OFFSET))
+TEST_SMTP_PORT=$((2526 + PORT_OFFSET))
+TEST_MAIL_HTTP_PORT=$((2581 + PORT_OFFSET))
 
 say() { printf '%s\n' "$*"; }
 die() { printf 'error: %s\n' "$*" >&2; exit 1; }

@@ -21,11 +21,20 @@ interface Instance {
   mailHttpPort: number
 }
 
+/** LOOPWRIGHT_PORT_OFFSET shifts every port, as in scripts/lib/common.sh. */
+const offset = Number(process.env.LOOPWRIGHT_PORT_OFFSET ?? 0)
+
 function instanceOf(project: string): Instance {
   if (project === 'server') {
-    return { name: 'server', appPort: 3198, database: 'loopwright_test_server', smtpPort: 2527, mailHttpPort: 2582 }
+    return {
+      name: 'server',
+      appPort: 3198 + offset,
+      database: 'loopwright_test_server',
+      smtpPort: 2527 + offset,
+      mailHttpPort: 2582 + offset,
+    }
   }
-  return { name: 'e2e', appPort: 3199, database: 'loopwright_test', smtpPort: 2526, mailHttpPort: 2581 }
+  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
 }
 
 interface Running {
