@@ -18,7 +18,7 @@ export async function takeFromLimit(event: H3Event, limiter: RateLimiterMemory, 
   } catch (refusal) {
     if (!(refusal instanceof RateLimiterRes)) throw refusal
     const retryAfterSeconds = Math.max(1, Math.ceil(refusal.msBeforeNext / 1000))
-    setResponseHeader(event, 'Retry-After', String(retryAfterSeconds))
+    setResponseHeader(event, 'Retry-After', retryAfterSeconds)
     throw createError({ statusCode: 429, statusMessage: 'Too many requests; try again later', data: { retryAfterSeconds } })
   }
 }
