@@ -47,7 +47,7 @@ describe('every write commits with its audit record, or not at all', () => {
 
   it('a member added, and a member removed', async () => {
     const projectId = await kit.newProject()
-    const personId = await kit.personId(demo.engineer)
+    const personId = await kit.newInvitedPerson(['engineer'])
     await failAuditOf('project.member-added')
     expect((await admin.post(`/api/projects/${projectId}/members`, { personId, role: 'engineer' })).status).toBe(500)
     expect(await count(database()`select count(*)::int as n from project_members where project_id = ${projectId}`)).toBe(0)

@@ -114,10 +114,10 @@ export class Kit {
     return answer.body.id
   }
 
-  /** A new invited engineer (no password yet). */
-  async newInvitedPerson(): Promise<number> {
+  /** A new invited person (no password yet) of the roles given: sample rows never touch the demo people. */
+  async newInvitedPerson(roles: Role[] = ['engineer']): Promise<number> {
     const handle = unique('rt')
-    const answer = await this.admin.post('/api/people/invite', { name: `Sample ${handle}`, email: `${handle}@example.com`, roles: ['engineer'] })
+    const answer = await this.admin.post('/api/people/invite', { name: `Sample ${handle}`, email: `${handle}@example.com`, roles })
     if (answer.status !== 201) throw new Error(`inviting a sample person answered ${answer.status}`)
     return answer.body.id
   }
@@ -239,7 +239,7 @@ export const routes: RouteRow[] = [
     expect: onlyRoles(201, 'admin'),
     prepare: async (kit) => ({
       params: { id: String(await kit.newProject()) },
-      body: { personId: await kit.personId(demo.engineer), role: 'engineer' },
+      body: { personId: await kit.newInvitedPerson(['engineer']), role: 'engineer' },
     }),
   },
   {
@@ -248,7 +248,7 @@ export const routes: RouteRow[] = [
     expect: onlyRoles(200, 'admin'),
     prepare: async (kit) => {
       const id = await kit.newProject()
-      const personId = await kit.personId(demo.checker)
+      const personId = await kit.newInvitedPerson(['checker'])
       const added = await kit.admin.post(`/api/projects/${id}/members`, { personId, role: 'checker' })
       if (added.status !== 201) throw new Error(`adding a sample member answered ${added.status}`)
       return { params: { id: String(id), personId: String(personId) } }
