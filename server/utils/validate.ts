@@ -2,6 +2,7 @@
 // Bad input answers 400 with `data.issues` = zod's flattened errors ({ formErrors, fieldErrors }), which
 // the forms show beside their fields (DEVELOPERS.md, "API").
 import { z, type ZodTypeAny } from 'zod'
+import { idText } from '../../shared/schemas/text'
 
 /** A validator for h3's readValidatedBody / getValidatedQuery / getValidatedRouterParams. */
 export function parseWith<S extends ZodTypeAny>(schema: S) {
@@ -13,6 +14,6 @@ export function parseWith<S extends ZodTypeAny>(schema: S) {
   }
 }
 
-/** Route parameter `[id]` (and `[personId]`): a positive integer. */
-export const idParams = z.object({ id: z.coerce.number().int().positive() })
-export const memberParams = idParams.extend({ personId: z.coerce.number().int().positive() })
+/** Route parameter `[id]` (and `[personId]`): a positive 32-bit integer written in decimal digits. */
+export const idParams = z.object({ id: idText })
+export const memberParams = idParams.extend({ personId: idText })
