@@ -18,6 +18,9 @@ export default defineNuxtConfig({
     databaseUrl: '',
     smtpHost: '127.0.0.1',
     smtpPort: 0,
+    // The sealed cookie (nuxt-auth-utils) lives as long as the server-side session may:
+    // absoluteLifetimeHours of server/services/sessions.ts (12 h), in seconds.
+    session: { maxAge: 12 * 60 * 60 },
     public: { appName: 'Loopwright', siteUrl: '' },
   },
   typescript: { strict: true },

@@ -41,10 +41,7 @@ export const organisations = pgTable('organisations', {
   createdAt: createdAt(),
 })
 
-/**
- * Everyone who signs in. `passwordHash` is null until an invitation is accepted;
- * `sessionVersion` is bumped whenever roles or the active flag change, so live sessions notice.
- */
+/** Everyone who signs in. `passwordHash` is null until an invitation is accepted. */
 export const people = pgTable(
   'people',
   {
@@ -54,7 +51,6 @@ export const people = pgTable(
     passwordHash: text('password_hash'),
     roles: text('roles').array().notNull().default(sql`'{}'::text[]`),
     active: boolean('active').notNull().default(true),
-    sessionVersion: integer('session_version').notNull().default(1),
     organisationId: integer('organisation_id').references(() => organisations.id),
     createdAt: createdAt(),
   },
@@ -106,7 +102,30 @@ export const invitations = pgTable('invitations', {
   createdAt: createdAt(),
 })
 
-/** Every sign-in attempt, counted per e-mail address for the rate limit. */
+/**
+ * One row per sign-in: the session the sealed cookie names. Only the SHA-256 of the random session id is
+ * stored (the id itself lives in the cookie's `secure` part). A session ends when it is revoked, after the
+ * idle timeout since `lastSeenAt`, or at `expiresAt` (server/services/sessions.ts).
+ */
+export const sessions = pgTable(
+  'sessions',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    tokenHash: text('token_hash').notNull().unique(),
+    personId: integer('person_id')
+      .notNull()
+      .references(() => people.id),
+    createdAt: createdAt(),
+    lastSeenAt: timestamp('last_seen_at', { withTimezone: true }).notNull().defaultNow(),
+    expiresAt: timestamp('expires_at', { withTimezone: true }).notNull(),
+    revokedAt: timestamp('revoked_at', { withTimezone: true }),
+    revokedReason: text('revoked_reason'),
+    ip: text('ip'),
+  },
+  (table) => [index('sessions_person_live').on(table.personId).where(sql`${table.revokedAt} is null`)],
+)
+
+/** Every sign-in attempt, counted per e-mail address and client address for the rate limits. */
 export const loginAttempts = pgTable(
   'login_attempts',
   {
@@ -117,7 +136,7 @@ export const loginAttempts = pgTable(
     ip: text('ip'),
     at: timestamp('at', { withTimezone: true }).notNull().defaultNow(),
   },
-  (table) => [index('login_attempts_email_at').on(table.email, table.at)],
+  (table) => [index('login_attempts_email_at').on(table.email, table.at), index('login_attempts_ip_at').on(table.ip, table.at)],
 )
 
 /** The audit trail. Append-only: a trigger (drizzle/…_audit_append_only.sql) refuses UPDATE, DELETE and TRUNCATE. */

@@ -7,6 +7,7 @@ import { invitations, people } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { AuditContext } from './audit-trail'
 import { audited, type Executor } from './audited'
+import { setPassword } from './passwords'
 
 export const invitationDays = 7
 
@@ -62,6 +63,6 @@ export async function acceptInvitation(db: Database, token: string, passwordHash
       .where(and(eq(invitations.id, invitation.id), isNull(invitations.usedAt)))
       .returning({ id: invitations.id })
     if (spent.length === 0) throw createError({ statusCode: 404, statusMessage: 'This invitation link is unknown or already used' })
-    await tx.update(people).set({ passwordHash }).where(eq(people.id, invitation.personId))
+    await setPassword(tx, invitation.personId, passwordHash)
   })
 }

@@ -11,6 +11,7 @@ import type { AuditContext } from './audit-trail'
 import { audited } from './audited'
 import { matchesTerm } from './search'
 import { createInvitation } from './invitations'
+import { endSessionsOf } from './sessions'
 import type { SendMail } from './outgoing-mail'
 
 const status = sql<PersonRow['status']>`case
@@ -140,7 +141,7 @@ export async function updatePerson(db: Database, id: number, body: PersonUpdateB
   await audited(
     db,
     context,
-    (removedMemberships: string[]) => ({
+    ({ removedMemberships, endedSessions }: { removedMemberships: string[]; endedSessions: number }) => ({
       action: activeChanged ? (body.active ? 'person.reactivated' : 'person.deactivated') : 'person.updated',
       subjectType: 'person',
       subjectId: id,
@@ -148,6 +149,7 @@ export async function updatePerson(db: Database, id: number, body: PersonUpdateB
         ...(body.name !== undefined && body.name !== person.name && { name: { from: person.name, to: body.name } }),
         ...(rolesChanged && { roles: { from: person.roles, to: body.roles } }),
         ...(removedMemberships.length > 0 && { removedMemberships }),
+        ...(endedSessions > 0 && { endedSessions }),
       },
     }),
     async (tx) => {
@@ -157,18 +159,39 @@ export async function updatePerson(db: Database, id: number, body: PersonUpdateB
           ...(body.name !== undefined && { name: body.name }),
           ...(body.roles !== undefined && { roles: body.roles }),
           ...(body.active !== undefined && { active: body.active }),
-          // Live sessions compare this number on every request (server/middleware/active-person.ts).
-          ...((rolesChanged || activeChanged) && { sessionVersion: person.sessionVersion + 1 }),
         })
         .where(eq(people.id, id))
-      if (!rolesChanged) return []
+      // A deactivated person's sessions end at once, and a reactivated one signs in afresh; changed roles end
+      // the sessions too, so no session ever carries roles the person no longer holds.
+      const ending = activeChanged ? (body.active ? 'reactivated' : 'deactivated') : rolesChanged ? 'roles changed' : null
+      const endedSessions = ending ? await endSessionsOf(tx, id, ending) : 0
+      if (!rolesChanged) return { removedMemberships: [], endedSessions }
       // A project role needs the matching global role: memberships whose role the person lost are ended.
       const removed = await tx
         .delete(projectMembers)
         .where(and(eq(projectMembers.personId, id), notInArray(projectMembers.role, body.roles!)))
         .returning({ projectId: projectMembers.projectId, role: projectMembers.role })
-      return removed.map((row) => `${row.projectId}:${row.role}`)
+      return { removedMemberships: removed.map((row) => `${row.projectId}:${row.role}`), endedSessions }
     },
   )
   return (await findPersonRow(db, id))!
+}
+
+/** An admin's "sign out everywhere" for one person: every live session of theirs ends. */
+export async function endPersonSessions(db: Database, id: number, context: AuditContext): Promise<{ endedSessions: number }> {
+  return audited(
+    db,
+    context,
+    ({ endedSessions }: { endedSessions: number }) => ({
+      action: 'person.sessions-ended',
+      subjectType: 'person',
+      subjectId: id,
+      detail: { endedSessions },
+    }),
+    async (tx) => {
+      const [person] = await tx.select({ id: people.id }).from(people).where(eq(people.id, id))
+      if (!person) throw createError({ statusCode: 404, statusMessage: 'No such person' })
+      return { endedSessions: await endSessionsOf(tx, id, 'signed out everywhere by an administrator') }
+    },
+  )
 }

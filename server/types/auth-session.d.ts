@@ -10,8 +10,8 @@ declare module '#auth-utils' {
     organisationId: number | null
   }
   interface SecureSessionData {
-    /** people.session_version when the session was written; a change means roles or the active flag moved. */
-    sessionVersion: number
+    /** The random id of the server-side session (table `sessions`, which stores only its SHA-256). */
+    sessionId: string
   }
 }
 

@@ -3,8 +3,15 @@ import { signIn } from '../../services/sign-in'
 
 export default defineEventHandler(async (event) => {
   const body = await readValidatedBody(event, parseWith(loginSchema))
-  const { user, sessionVersion } = await signIn(useDb(), body, auditContext(event, null), verifyPassword)
+  const previous = await getUserSession(event)
+  const { user, sessionId } = await withRetryAfter(event, () =>
+    signIn(useDb(), body, auditContext(event, null), {
+      passwords: { verify: verifyPassword, hash: hashPassword },
+      send: sendMail,
+      previousSessionId: previous.secure?.sessionId,
+    }),
+  )
   // replace, not set: setUserSession merges into an earlier session, and would merge the roles arrays too.
-  await replaceUserSession(event, { user, secure: { sessionVersion }, loggedInAt: new Date().toISOString() })
+  await replaceUserSession(event, { user, secure: { sessionId }, loggedInAt: new Date().toISOString() })
   return { user }
 })
