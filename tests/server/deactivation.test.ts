@@ -28,13 +28,15 @@ describe('deactivation and role changes', () => {
     expect((await new Client().post('/api/auth/login', { email: person.email, password: person.password })).status).toBe(200)
   })
 
-  it('carries changed roles into a live session on its next request', async () => {
+  it('ends a live session when the roles change; signing in afresh carries the new roles (issue 6)', async () => {
     const person = await newPerson(admin)
     const session = await signedIn(person.email, person.password)
     expect((await session.get('/api/people')).status).toBe(403)
     await admin.patch(`/api/people/${person.id}`, { roles: ['engineer', 'admin'] })
-    expect((await session.get('/api/people')).status).toBe(200)
-    expect((await session.get('/api/_auth/session')).body.user.roles).toEqual(['engineer', 'admin'])
+    expect((await session.get('/api/people')).status).toBe(401)
+    const fresh = await signedIn(person.email, person.password)
+    expect((await fresh.get('/api/people')).status).toBe(200)
+    expect((await fresh.get('/api/_auth/session')).body.user.roles).toEqual(['engineer', 'admin'])
   })
 
   it('refuses an admin removing their own admin role or deactivating themselves', async () => {

@@ -1,6 +1,7 @@
 // A small HTTP client for the server tests: one cookie jar per person, JSON in and out.
 import { inject } from 'vitest'
 import postgres from 'postgres'
+import { Agent } from 'undici'
 import { demoPassword } from '../../../scripts/demo-people'
 
 export interface Answer<T = any> {
@@ -9,13 +10,29 @@ export interface Answer<T = any> {
   headers: Headers
 }
 
+const agents = new Map<string, Agent>()
+/** A connection bound to a local address: all of 127.0.0.0/8 is loopback on Linux, so tests can come "from elsewhere". */
+function agentFrom(localAddress: string): Agent {
+  let agent = agents.get(localAddress)
+  if (!agent) agents.set(localAddress, (agent = new Agent({ connect: { localAddress } })))
+  return agent
+}
+
 export class Client {
   cookie = ''
 
+  /** `from`: the local address the requests leave from (127.0.0.1 when not given); `headers`: sent with each. */
+  constructor(
+    readonly from?: string,
+    readonly headers: Record<string, string> = {},
+  ) {}
+
   async request<T = any>(method: string, path: string, body?: unknown): Promise<Answer<T>> {
     const answer = await fetch(`${inject('baseUrl')}${path}`, {
+      ...(this.from ? { dispatcher: agentFrom(this.from) } : {}),
       method,
       headers: {
+        ...this.headers,
         ...(body === undefined ? {} : { 'content-type': 'application/json' }),
         ...(this.cookie ? { cookie: this.cookie } : {}),
       },
@@ -70,8 +87,8 @@ export const demo = {
   client: 'dana.whitlock@example.com',
 }
 
-export async function signedIn(email: string, password = demoPassword): Promise<Client> {
-  const client = new Client()
+export async function signedIn(email: string, password = demoPassword, from?: string): Promise<Client> {
+  const client = new Client(from)
   const answer = await client.post('/api/auth/login', { email, password })
   if (answer.status !== 200) throw new Error(`sign-in of ${email} answered ${answer.status}`)
   return client
@@ -103,6 +120,19 @@ export async function mailTo(address: string): Promise<MailMessage[]> {
     await new Promise((resolve) => setTimeout(resolve, 100))
   }
   return []
+}
+
+/** The messages to `address` whose subject is `subject`, read after `settleMs` so late ones are counted too. */
+export async function mailWithSubject(address: string, subject: string, settleMs = 1500): Promise<MailMessage[]> {
+  const read = async () => {
+    const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
+    return ((await answer.json()) as MailMessage[]).filter((message) => message.subject === subject)
+  }
+  for (let attempt = 0; attempt < 50 && (await read()).length === 0; attempt++) {
+    await new Promise((resolve) => setTimeout(resolve, 100))
+  }
+  await new Promise((resolve) => setTimeout(resolve, settleMs))
+  return read()
 }
 
 /** Invites a person as the demo admin, accepts the invitation, and returns their id and password. */
