@@ -11,10 +11,10 @@ export interface Answer<T = any> {
 }
 
 const agents = new Map<string, Agent>()
-/** A connection bound to a local address: all of 127.0.0.0/8 is loopback on Linux, so tests can come "from elsewhere". */
+/** Connections bound to a local address (undici's Client option `localAddress`): all of 127.0.0.0/8 is loopback on Linux, so tests can come "from elsewhere". */
 function agentFrom(localAddress: string): Agent {
   let agent = agents.get(localAddress)
-  if (!agent) agents.set(localAddress, (agent = new Agent({ connect: { localAddress } })))
+  if (!agent) agents.set(localAddress, (agent = new Agent({ localAddress })))
   return agent
 }
 
