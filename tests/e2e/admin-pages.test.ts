@@ -137,4 +137,24 @@ describe('changing a person', () => {
     // An invited person who has not chosen a password yet goes back to "invited", not "active".
     expect((await read()).status).toBe('invited')
   })
+
+  it('signs a person out everywhere from the people page: their cookie opens nothing afterwards', async () => {
+    const { api, apiSignIn } = await import('./api')
+    const checker = demoPeople.find((person) => person.roles.includes('checker' as never) && !person.roles.includes('engineer' as never))!
+    const checkerCookie = await apiSignIn(checker.email, demoPassword)
+    expect((await api(checkerCookie, '/api/projects')).status).toBe(200)
+    const adminCookie = await apiSignIn(admin.email, demoPassword)
+    const listed = await api<{ items: Array<{ id: number }> }>(adminCookie, `/api/people?q=${encodeURIComponent(checker.email)}`)
+    const id = listed.body.items[0]!.id
+
+    await page.goto(`${baseUrl()}/people?q=${encodeURIComponent(checker.email)}`, { waitUntil: 'networkidle0' })
+    await Promise.all([
+      page.waitForResponse((response) => response.url().endsWith(`/api/people/${id}/sessions/revoke`)),
+      page.click(`[data-sign-out-everywhere="${id}"]`),
+    ])
+    await page.waitForSelector('[data-testid=people-notice][data-notice=sound]')
+    expect(await textOf(page, '[data-testid=people-notice]')).toContain(`of ${checker.name} ended`)
+    await screenshot(page, 'people-signed-out-everywhere')
+    expect((await api(checkerCookie, '/api/projects')).status).toBe(401)
+  })
 })

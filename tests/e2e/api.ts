@@ -1,13 +1,18 @@
 // The API as the tests' own witness: what the browser did is checked against what the server holds.
 /// <reference path="../setup/provided.d.ts" />
 import { inject } from 'vitest'
+import { Agent } from 'undici'
 
 export const baseUrl = () => inject('baseUrl')
 export const mailApiUrl = () => inject('mailApiUrl')
 
-/** Signs in over HTTP and returns the session cookie to send with later calls. */
-export async function apiSignIn(email: string, password: string): Promise<string> {
+/**
+ * Signs in over HTTP and returns the session cookie to send with later calls. `from`: the local address to connect
+ * from (all of 127.0.0.0/8 is loopback on Linux), to sign in as another client than the browser.
+ */
+export async function apiSignIn(email: string, password: string, from?: string): Promise<string> {
   const response = await fetch(`${baseUrl()}/api/auth/login`, {
+    ...(from ? { dispatcher: new Agent({ localAddress: from }) } : {}),
     method: 'POST',
     headers: { 'content-type': 'application/json' },
     body: JSON.stringify({ email, password }),
