@@ -5,9 +5,9 @@ import { Client, demo, newPerson, signedIn, unique } from './support/client'
 // password, or the answer time tells which addresses have accounts (before the fix: about 7 ms against 34 ms, a
 // ratio of 0.2). Both now verify a password hash (a dummy one for an unknown address).
 // Margin: the smaller median is at least 60 % of the larger. The two kinds of attempt alternate, so a loaded
-// machine slows both alike; the medians of 15 each shrug off single slow requests. A ratio this far from 0.2
+// machine slows both alike; the medians of 21 each shrug off single slow requests. A ratio this far from 0.2
 // fails the old code on any machine, and two scrypt verifications of equal cost do not drift 40 % apart.
-const rounds = 15
+const rounds = 21
 const margin = 0.6
 
 function median(values: number[]): number {
