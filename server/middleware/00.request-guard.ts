@@ -22,14 +22,14 @@ export default defineEventHandler(async (event) => {
     throw createError({ statusCode: 415, statusMessage: 'Unsupported media type', message, data: { message } })
   }
 
-  const limit = BODY_LIMITS[path] ?? { bytes: GENERAL_BODY_BYTES, field: 'body' }
+  const limit = BODY_LIMITS[path] ?? { bytes: GENERAL_BODY_BYTES, field: 'body', what: `the limit of ${GENERAL_BODY_BYTES / 1024} KiB` }
   try {
     ;(event.node.req as IncomingMessage & { rawBody?: Buffer }).rawBody = await readBodyWithin(event, limit.bytes)
   } catch (error) {
     if (!(error instanceof BodyTooLargeError)) throw error
     // The rest of the body is never read: the connection closes after this answer.
     setResponseHeader(event, 'connection', 'close')
-    const message = `${limit.field}: the body is above the limit of ${limit.bytes / 1024} KiB and was not read`
+    const message = `${limit.field}: the body is above ${limit.what} and was not read (reading stops at ${limit.bytes / 1024} KiB)`
     throw createError({ statusCode: 413, statusMessage: 'Payload too large', message, data: { field: limit.field, message } })
   }
 })

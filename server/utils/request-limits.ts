@@ -9,8 +9,8 @@ export const GENERAL_BODY_BYTES = 1024 * 1024
  * reads up to four times the loop file's limit, so that a file just past 256 KiB gets the engine's own 400
  * naming `file` (calc-contract.md, "Bad input"), and anything far past it is never read at all.
  */
-export const BODY_LIMITS: Record<string, { bytes: number; field: string }> = {
-  '/api/calculate': { bytes: 4 * MAX_FILE_BYTES, field: 'file' },
+export const BODY_LIMITS: Record<string, { bytes: number; field: string; what: string }> = {
+  '/api/calculate': { bytes: 4 * MAX_FILE_BYTES, field: 'file', what: `the limit of ${MAX_FILE_BYTES / 1024} KiB of a loop file` },
 }
 
 /**

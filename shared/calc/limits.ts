@@ -37,11 +37,11 @@ export function formatCount(n: number): string {
 
 /**
  * Longest TeX of one symbolic polynomial (num_tex, den_tex and the derivation's steps), in characters,
- * estimated before it is built. Chosen, not measured against KaTeX: some 10,000 terms, far more than a sheet's
+ * estimated before it is built. Chosen, not measured against KaTeX: some 50,000 terms, far more than a sheet's
  * page can show. Measured with the command line: three dead times at Padé order 10 give 277,332 characters and
  * pass; 16 symbolic lags in series (65,536 terms, about 7.3 million characters) are refused at once.
  */
-export const MAX_POLYNOMIAL_TEX_CHARS = 400_000
+export const MAX_POLYNOMIAL_TEX_CHARS = 2_000_000
 /**
  * Highest degree, in the swept parameter, of the Hurwitz determinant the stability range solves: (degree in s − 1)
  * × (the parameter's highest power in a coefficient). Past it the determinant's coefficients overflow doubles
