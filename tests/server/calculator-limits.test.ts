@@ -53,8 +53,11 @@ describe('per-person limits on calculations', () => {
 
     // The engineer's calculation was answered before any of the flooder's heavy ones finished.
     expect(order).toContain('engineer 200')
-    expect(order.indexOf('engineer 200')).toBeLessThan(order.indexOf('heavy 422'))
-    expect(answers.map((a) => a.status).sort()).toEqual([422, 422, 422, 429, 429])
+    const firstHeavyAnswer = order.findIndex((entry) => entry.startsWith('heavy') && entry !== 'heavy 429')
+    expect(firstHeavyAnswer).toBeGreaterThan(order.indexOf('engineer 200'))
+    expect(answers.filter((a) => a.status === 429)).toHaveLength(2)
+    // The three taken ran to the time limit (or, on a faster machine than measured, finished).
+    for (const taken of answers.filter((a) => a.status !== 429)) expect([200, 422]).toContain(taken.status)
     for (const refused of answers.filter((a) => a.status === 429)) {
       expect(Number(refused.headers.get('retry-after'))).toBeGreaterThanOrEqual(1)
       expect(refused.body.message).toMatch(/3 calculations running or waiting/)
