@@ -111,7 +111,7 @@ describe('refusals through evaluateLoopText', () => {
 
 /**
  * 14 lags, ten with a banded time constant (2^10 tolerance corners, the most allowed) and four numeric (14
- * symbolic ones would pass the TeX limit), each corner with a step response: far beyond 50 ms.
+ * symbolic ones would exceed the TeX limit), each corner with a step response: far beyond 50 ms.
  */
 const slowLoop = edit((l) => {
   delete (l.parameters.K as { min?: number }).min

@@ -53,9 +53,13 @@ describe('content security policy', () => {
     await page.goto(`${baseUrl()}/workbench`, { waitUntil: 'networkidle0' })
     await page.waitForSelector('[data-testid=result][data-stale=false]')
     expect(await page.$('[data-testid=closed-loop-symbolic] .katex')).not.toBeNull()
-    // KaTeX positions glyphs with style attributes: they took effect (a vertical strut has a height).
-    const strutHeight = await page.$eval('[data-testid=closed-loop-symbolic] .katex .strut', (node) => (node as HTMLElement).style.height)
-    expect(strutHeight).toMatch(/em$/)
+    // KaTeX positions glyphs with style attributes: they took effect (a blocked attribute stays in the markup
+    // but leaves the element's style empty).
+    const styled = await page.$$eval('[data-testid=closed-loop-symbolic] .katex-html [style]', (nodes) =>
+      nodes.map((node) => ({ written: node.getAttribute('style') ?? '', applied: (node as HTMLElement).style.cssText })),
+    )
+    expect(styled.length).toBeGreaterThan(0)
+    for (const { written, applied } of styled) expect(applied, written).not.toBe('')
     expect(await page.$eval('[data-testid=step-plot] svg path[data-curve=step]', (path) => path.getAttribute('d') ?? '')).toMatch(/^M/)
     await page.evaluate(() => document.fonts.ready)
     expect(await page.evaluate(() => document.fonts.check('16px "Noto Sans"'))).toBe(true)
