@@ -11,10 +11,11 @@ export interface CalcRequest {
 
 export type CalcReply =
   | { id: number; ok: true; result: unknown }
-  | { id: number; ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine'; field?: string; message: string }
+  | { id: number; ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine' | 'cancelled'; field?: string; message: string }
 
 interface Job {
   request: CalcRequest
+  owner: string
   resolve: (reply: CalcReply) => void
 }
 
@@ -26,7 +27,7 @@ interface Slot {
 
 /** How long one computation may take before its worker is stopped. */
 export const calcTimeLimitMs = Number(process.env.NUXT_CALC_TIME_LIMIT_MS) || 10_000
-/** Requests waiting beyond this many are answered "busy" rather than queued without end. */
+/** Requests waiting beyond this many, everyone's together, are answered "busy" rather than queued without end. */
 const queueLimit = 64
 
 function workerPath(): string {
@@ -45,29 +46,82 @@ function workerPath(): string {
  * A fixed pool of worker threads with a time limit per computation. The engine
  * also stops itself at its deadline; the hard limit here (a little later)
  * catches anything that does not, by terminating the worker and starting a new one.
+ *
+ * Fairness: each person (the `owner` of a job) has a queue of their own, and free
+ * workers serve the queues in turn (round robin), so one person's queued work
+ * never stands in front of another's. One person holds at most `size − 1` workers
+ * (one on a pool of one), so a worker is always left for somebody else: someone
+ * who floods the pool with heavy loops waits for their own work, and the next
+ * person's small calculation starts as soon as it arrives.
  */
 class CalcPool {
   private slots: Slot[] = []
-  private queue: Job[] = []
+  /** Queues by owner; a Map keeps insertion order, which is the round robin's order. */
+  private queues = new Map<string, Job[]>()
+  private queued = 0
   private nextId = 1
+  readonly perOwner: number
 
-  constructor(readonly size: number) {}
+  constructor(readonly size: number) {
+    this.perOwner = Math.max(1, size - 1)
+  }
 
-  run(text: string): Promise<CalcReply> {
-    if (this.queue.length >= queueLimit) {
+  run(text: string, owner: string, signal?: AbortSignal): Promise<CalcReply> {
+    if (this.queued >= queueLimit) {
       return Promise.resolve({ id: 0, ok: false, kind: 'busy', message: 'The calculation service is busy; try again in a moment.' })
     }
     return new Promise((resolve) => {
-      this.queue.push({ request: { id: this.nextId++, text, deadlineMs: calcTimeLimitMs }, resolve })
+      const job: Job = { request: { id: this.nextId++, text, deadlineMs: calcTimeLimitMs }, owner, resolve }
+      const queue = this.queues.get(owner) ?? []
+      queue.push(job)
+      this.queues.set(owner, queue)
+      this.queued++
+      // A request given up by its sender (the workbench aborts the previous one as the engineer types)
+      // leaves the queue at once; one already running finishes, as a worker cannot be interrupted cheaply.
+      signal?.addEventListener('abort', () => this.cancel(job), { once: true })
       this.dispatch()
     })
+  }
+
+  /** Jobs running and waiting for one owner. */
+  inFlight(owner: string): number {
+    return this.slots.filter((slot) => slot.job?.owner === owner).length + (this.queues.get(owner)?.length ?? 0)
+  }
+
+  private cancel(job: Job) {
+    const queue = this.queues.get(job.owner)
+    const index = queue?.indexOf(job) ?? -1
+    if (!queue || index < 0) return
+    queue.splice(index, 1)
+    this.queued--
+    if (queue.length === 0) this.queues.delete(job.owner)
+    job.resolve({ id: job.request.id, ok: false, kind: 'cancelled', message: 'The request was withdrawn before it started.' })
+  }
+
+  /** The next job to start: the first owner in turn with work waiting and a worker to spare. */
+  private next(): Job | null {
+    for (const [owner, queue] of this.queues) {
+      if (this.running(owner) >= this.perOwner) continue
+      const job = queue.shift()!
+      this.queued--
+      // Served: the owner goes to the back of the turn (or leaves it when nothing more waits).
+      this.queues.delete(owner)
+      if (queue.length > 0) this.queues.set(owner, queue)
+      return job
+    }
+    return null
+  }
+
+  private running(owner: string): number {
+    return this.slots.filter((slot) => slot.job?.owner === owner).length
   }
 
   private dispatch() {
     if (this.slots.length === 0) this.slots = Array.from({ length: this.size }, () => this.spawn())
     for (const slot of this.slots) {
-      if (slot.job || this.queue.length === 0) continue
-      const job = this.queue.shift()!
+      if (slot.job) continue
+      const job = this.next()
+      if (!job) return
       slot.job = job
       slot.timer = setTimeout(() => this.kill(slot), calcTimeLimitMs + 2_000)
       slot.worker.postMessage(job.request)
@@ -113,9 +167,14 @@ function thePool(): CalcPool {
   return pool
 }
 
-/** Runs one loop file (as text) through the engine in the worker pool. */
-export function calculateInPool(text: string): Promise<CalcReply> {
-  return thePool().run(text)
+/** Runs one loop file (as text) through the engine in the worker pool, queued as `owner`'s work. */
+export function calculateInPool(text: string, owner: string, signal?: AbortSignal): Promise<CalcReply> {
+  return thePool().run(text, owner, signal)
+}
+
+/** How many of `owner`'s calculations are running or waiting. */
+export function calculationsInFlight(owner: string): number {
+  return thePool().inFlight(owner)
 }
 
 /** Starts the workers and runs one small loop in each, so the first engineer's preview is not the slow one. */
@@ -125,5 +184,6 @@ export async function warmCalcPool(): Promise<void> {
     blocks: { G: { role: 'plant', label: 'warm-up', num: '1', den: 's + 1' } },
     structure: { feedback: { forward: 'G', return: null, sign: -1 } },
   })
-  await Promise.all(Array.from({ length: thePool().size }, () => thePool().run(loop)))
+  // Each warm-up is an owner of its own, so the pool's rule of one worker per person does not hold them back.
+  await Promise.all(Array.from({ length: thePool().size }, (_, i) => thePool().run(loop, `warm-up-${i}`)))
 }

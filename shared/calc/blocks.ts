@@ -1,7 +1,7 @@
 import type { LoopFile } from '../schemas/loop'
 import { LoopInputError } from './errors'
 import { type ExpressionScope, type Quotient, readExpression } from './expression'
-import { MAX_DEGREE } from './limits'
+import { MAX_DEGREE, WorkLimitError } from './limits'
 import { Multinomial } from './multinomial'
 import { padeDelay } from './pade'
 import { type TransferFunction, degree, multiply, scale } from './polynomial'
@@ -46,6 +46,15 @@ function checkDivisor(q: Quotient, field: string, parameters: LoopParameters): v
 }
 
 export function readBlock(id: string, loop: LoopFile, parameters: LoopParameters, padeOrder: number): BlockModel {
+  try {
+    return readBlockModel(id, loop, parameters, padeOrder)
+  } catch (error) {
+    if (error instanceof WorkLimitError) throw new LoopInputError(`blocks.${id}`, `the block (with its dead time's Padé form) ${error.message}`)
+    throw error
+  }
+}
+
+function readBlockModel(id: string, loop: LoopFile, parameters: LoopParameters, padeOrder: number): BlockModel {
   const block = loop.blocks[id]
   const field = `blocks.${id}`
   const num = readExpression(block.num, `${field}.num`, parameters.scope)

@@ -1,8 +1,8 @@
 import { type MathNode, parse } from 'mathjs'
 import { LoopInputError } from './errors'
-import { MAX_EXPONENT } from './limits'
+import { MAX_EXPONENT, MAX_TERM_PRODUCTS, WorkLimitError, formatCount } from './limits'
 import { Multinomial } from './multinomial'
-import { type Polynomial, add, constantPolynomial, multiply, negate, power, scale, shift } from './polynomial'
+import { type Polynomial, add, constantPolynomial, multiply, negate, power, scale, shift, termCount } from './polynomial'
 import { type Rational, ONE, rationalFromNumber } from './rational'
 
 /**
@@ -45,7 +45,12 @@ export function readExpression(text: string, field: string, scope: ExpressionSco
     if (/end of expression/i.test(message)) throw new LoopInputError(field, `"${text}" is not a complete expression`)
     throw new LoopInputError(field, `"${text}" cannot be read (${message.replace(/^SyntaxError:\s*/, '').toLowerCase()})`)
   }
-  return convert(node, reading)
+  try {
+    return convert(node, reading)
+  } catch (error) {
+    if (error instanceof WorkLimitError) refuse(reading, error.message)
+    throw error
+  }
 }
 
 function refuse(reading: Reading, reason: string): never {
@@ -123,10 +128,30 @@ function raise(baseNode: MathNode, exponentNode: MathNode, reading: Reading): Qu
   if (magnitude > MAX_EXPONENT) refuse(reading, `has the exponent ${k.toString()}, above the limit of ${MAX_EXPONENT}`)
   const base = convert(baseNode, reading)
   const v = reading.scope.variables
+  const products = Math.max(powerProducts(base.num, magnitude), powerProducts([base.den], magnitude))
+  if (products > MAX_TERM_PRODUCTS)
+    refuse(reading, `raises ${termCount(base.num)} terms to the power ${magnitude}: about ${formatCount(products)} term products in its last multiplication, above the limit of ${formatCount(MAX_TERM_PRODUCTS)}`)
   if (k.s > 0n) return simplify({ num: power(base.num, magnitude, v), den: base.den.power(magnitude) })
   if (base.num.length === 0) refuse(reading, 'raises zero to a negative power')
   if (base.num.length > 1) refuse(reading, 'has a negative power of s; write the block as numerator and denominator polynomials in s')
   return simplify({ num: [base.den.power(magnitude)], den: base.num[0].power(magnitude) })
+}
+
+/**
+ * Term products of the last multiplication of p^k (p^(k−1) × p), estimated before any work: p^(k−1) has at
+ * most C(k−2+T, T−1) terms for T terms in p (the monomials of degree k−1 in T symbols), and at most one per
+ * exponent vector the powers of s and of each parameter can reach.
+ */
+function powerProducts(p: Polynomial, k: number): number {
+  const t = termCount(p)
+  if (k < 2 || t < 2) return 0
+  let byCount = 1
+  for (let i = 1; i <= t - 1; i++) byCount = (byCount * (k - 1 + i - 1 + 1)) / i
+  const highest = new Map<number, number>()
+  for (const c of p) for (const { exponents } of c.terms.values()) exponents.forEach((e, i) => highest.set(i, Math.max(highest.get(i) ?? 0, e)))
+  let byExponents = (k - 1) * (p.length - 1) + 1
+  for (const e of highest.values()) byExponents *= (k - 1) * e + 1
+  return Math.min(byCount, byExponents) * t
 }
 
 /** A divisor that is only a number goes into the coefficients, so most expressions keep the divisor 1. */

@@ -4,7 +4,7 @@ import { type CriterionRow, criteriaRows } from './criteria'
 import { CalcTimeoutError, Deadline, LoopInputError } from './errors'
 import { numericBlocks } from './evaluate'
 import { frequencyResponse } from './frequency'
-import { DEFAULT_DEADLINE_MS, MAX_FILE_BYTES } from './limits'
+import { DEFAULT_DEADLINE_MS, MAX_FILE_BYTES, MAX_STABILITY_RANGE_DEGREE, MAX_TOLERANCE_CORNERS, SizeLimitError, WorkLimitError, formatCount } from './limits'
 import { stabilityMargins } from './margins'
 import { openLoopAt, openLoopModel } from './open-loop'
 import { compilePolynomial, substituteExact } from './polynomial'
@@ -75,6 +75,13 @@ export function parseLoopFile(input: unknown): LoopFile {
     throw new LoopInputError(issue.path.length ? issue.path.join('.') : 'file', issue.message)
   }
   const loop = result.data
+  // The corners multiply every other cost: refused before anything is computed (calc-contract.md, `tolerance_corners`).
+  const banded = Object.values(loop.parameters).filter((p) => (p.min ?? p.value) !== (p.max ?? p.value)).length
+  if (2 ** banded > MAX_TOLERANCE_CORNERS)
+    throw new LoopInputError(
+      'parameters',
+      `${banded} parameters have a tolerance band: ${formatCount(2 ** banded)} tolerance corners, above the limit of ${formatCount(MAX_TOLERANCE_CORNERS)} (${Math.log2(MAX_TOLERANCE_CORNERS)} banded parameters)`,
+    )
   for (const [symbol, p] of Object.entries(loop.parameters)) {
     const problem = p.tex === undefined ? null : texProblem(p.tex)
     if (problem) throw new LoopInputError(`parameters.${symbol}.tex`, `KaTeX cannot typeset "${p.tex}" (${problem})`)
@@ -83,6 +90,18 @@ export function parseLoopFile(input: unknown): LoopFile {
 }
 
 export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): CalcResult {
+  try {
+    return evaluateParsed(input, options)
+  } catch (error) {
+    // A multiplication of the reduction past the limit: the structure asked for it (blocks name themselves).
+    if (error instanceof WorkLimitError) throw new LoopInputError('structure', `the reduction of the loop ${error.message}`)
+    // The symbolic transfer functions are typeset from the structure's reduction.
+    if (error instanceof SizeLimitError) throw new LoopInputError('structure', `the symbolic transfer function ${error.message}`)
+    throw error
+  }
+}
+
+function evaluateParsed(input: unknown, options: EvaluateOptions): CalcResult {
   const deadline = new Deadline(options.deadlineMs ?? DEFAULT_DEADLINE_MS)
   const loop = parseLoopFile(input)
   const warnings: string[] = []
@@ -202,7 +221,21 @@ export function evaluateLoop(input: unknown, options: EvaluateOptions = {}): Cal
     const rows = descendingCoefficients(closed.den).map((c) => c.inVariable(index, parameters.values))
     const width = Math.max(...rows.map((r) => r.length))
     const padded = rows.map((r) => [...new Array<number>(width - r.length).fill(0), ...r])
-    stability_range = { parameter: range.parameter, intervals: stableIntervals(padded, range.search, { deadline: deadline.at, limitMs: deadline.limitMs }) }
+    const hurwitzDegree = Math.max(rows.length - 2, 0) * (width - 1)
+    if (hurwitzDegree > MAX_STABILITY_RANGE_DEGREE)
+      throw new LoopInputError(
+        'analysis.stability_range.parameter',
+        `sweeping ${range.parameter} (up to its power ${width - 1} in a coefficient of a degree-${rows.length - 1} denominator) needs a polynomial of degree ${hurwitzDegree} in ${range.parameter}, above the limit of ${MAX_STABILITY_RANGE_DEGREE}`,
+      )
+    let intervals: Array<[number, number]>
+    try {
+      intervals = stableIntervals(padded, range.search, { deadline: deadline.at, limitMs: deadline.limitMs })
+    } catch (error) {
+      if (error instanceof CalcTimeoutError || error instanceof LoopInputError) throw error
+      // Measured: K/(s + 1)^40 swept in K fails here (its Hurwitz determinant overflows doubles); say so, never a 500.
+      throw new LoopInputError('analysis.stability_range', `the stable range of ${range.parameter} cannot be computed in double precision for this loop (${error instanceof Error ? error.message : String(error)})`)
+    }
+    stability_range = { parameter: range.parameter, intervals }
     if (Date.now() > deadline.at) throw new CalcTimeoutError('the stability range', deadline.limitMs)
   }
 

@@ -1,5 +1,6 @@
 import { type Rational, ONE, ZERO, isZero, rationalToNumber } from './rational'
 import type { Deadline } from './errors'
+import { checkTermProducts } from './limits'
 
 /**
  * Sparse multivariate polynomials in the loop's parameters with exact rational
@@ -93,6 +94,7 @@ export class Multinomial {
     if (c1 !== null) return other.scale(c1)
     const c2 = other.constantValue
     if (c2 !== null) return this.scale(c2)
+    checkTermProducts(this.terms.size, other.terms.size)
     const terms = new Map<string, Term>()
     let work = 0
     for (const a of this.terms.values()) {

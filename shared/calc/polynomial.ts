@@ -1,4 +1,5 @@
 import type { Deadline } from './errors'
+import { checkTermProducts } from './limits'
 import { Multinomial } from './multinomial'
 import { type Rational, ONE, isZero } from './rational'
 
@@ -54,6 +55,7 @@ export function multiply(a: Polynomial, b: Polynomial, deadline?: Deadline): Pol
   if (a.length === 0 || b.length === 0) return []
   if (isOnePolynomial(a)) return b
   if (isOnePolynomial(b)) return a
+  checkTermProducts(termCount(a), termCount(b))
   const variables = a[0].variables
   const out: Multinomial[] = Array.from({ length: a.length + b.length - 1 }, () => new Multinomial(variables))
   for (let i = 0; i < a.length; i++) {
@@ -72,6 +74,7 @@ export function multiplyAll(factors: readonly Polynomial[], variables: number, d
 
 export function scale(p: Polynomial, factor: Multinomial, deadline?: Deadline): Polynomial {
   if (factor.isOne) return p
+  if (factor.constantValue === null) checkTermProducts(termCount(p), factor.terms.size)
   return trim(p.map((c) => c.multiply(factor, deadline)))
 }
 
@@ -86,6 +89,11 @@ export function power(p: Polynomial, exponent: number, variables: number, deadli
   let result: Polynomial = [Multinomial.constant(variables, ONE)]
   for (let i = 0; i < exponent; i++) result = multiply(result, p, deadline)
   return result
+}
+
+/** Terms over every power of s: what the cost of a multiplication grows with. */
+export function termCount(p: Polynomial): number {
+  return p.reduce((sum, c) => sum + c.terms.size, 0)
 }
 
 export function isZeroPolynomial(p: Polynomial): boolean {

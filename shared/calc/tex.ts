@@ -1,6 +1,7 @@
 import katex from 'katex'
 import type { Multinomial, Term } from './multinomial'
 import type { Polynomial } from './polynomial'
+import { MAX_POLYNOMIAL_TEX_CHARS, SizeLimitError, formatCount } from './limits'
 import { type Rational, isNegative } from './rational'
 
 /**
@@ -116,6 +117,9 @@ function sPowerTex(k: number): string {
 
 /** A polynomial in s collected in powers of s, highest first; a coefficient of several terms in parentheses. */
 export function polynomialTex(p: Polynomial, names: VariableTex): string {
+  const estimate = texLength(p, names)
+  if (estimate > MAX_POLYNOMIAL_TEX_CHARS)
+    throw new SizeLimitError(`typesets to about ${formatCount(estimate)} characters of TeX, above the limit of ${formatCount(MAX_POLYNOMIAL_TEX_CHARS)}`)
   const parts: Array<[boolean, string]> = []
   for (let k = p.length - 1; k >= 0; k--) {
     const c = p[k]
@@ -124,6 +128,19 @@ export function polynomialTex(p: Polynomial, names: VariableTex): string {
     else parts.push([false, `\\left(${multinomialTex(c, names)}\\right) ${sPowerTex(k)}`])
   }
   return joinSigned(parts)
+}
+
+/** The TeX's length, roughly, before it is built: each term's symbols and exponents, and a few characters more. */
+function texLength(p: Polynomial, names: VariableTex): number {
+  let length = 0
+  for (const c of p)
+    for (const { exponents } of c.terms.values()) {
+      length += 12
+      exponents.forEach((e, i) => {
+        if (e > 0) length += (names[i]?.length ?? 1) + (e > 1 ? 4 : 1)
+      })
+    }
+  return length
 }
 
 /** A polynomial as a factor of a product: parenthesised when it has more than one term. */

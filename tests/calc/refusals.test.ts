@@ -109,11 +109,16 @@ describe('refusals through evaluateLoopText', () => {
   })
 })
 
-/** 2^14 tolerance corners, each with a step response: far beyond 50 ms. */
+/**
+ * 14 lags, ten with a banded time constant (2^10 tolerance corners, the most allowed) and four numeric (14
+ * symbolic ones would exceed the TeX limit), each corner with a step response: far beyond 50 ms.
+ */
 const slowLoop = edit((l) => {
+  delete (l.parameters.K as { min?: number }).min
+  delete (l.parameters.K as { max?: number }).max
   for (let i = 0; i < 14; i++) {
-    l.parameters[`a${i}`] = { value: 1, min: 0.9, max: 1.1 }
-    l.blocks[`L${i}`] = { role: 'other', num: '1', den: `a${i}*s + 1` }
+    if (i < 10) l.parameters[`a${i}`] = { value: 1, min: 0.9, max: 1.1 }
+    l.blocks[`L${i}`] = { role: 'other', num: '1', den: i < 10 ? `a${i}*s + 1` : 's + 1' }
   }
   l.structure = { feedback: { forward: { series: Object.keys(l.blocks) } } }
       l.criteria = { overshoot_pct: { max: 10 } }

@@ -5,7 +5,7 @@ const templateParams = z.object({ name: z.string().regex(/^[a-z0-9][a-z0-9-]{0,8
 
 /** GET /api/templates/[name]: one template's loop file (calc-contract.md, "Loop file"). */
 export default defineEventHandler(async (event) => {
-  await requireRole(event)
+  await requireRole(event, 'engineer', 'checker', 'admin')
   const { name } = await getValidatedRouterParams(event, parseWith(templateParams))
   const loop = await useStorage('assets:sheets').getItem(`${name}.json`)
   if (loop === null) throw createError({ statusCode: 404, statusMessage: 'No such template' })

@@ -1,6 +1,6 @@
 /** GET /api/templates: the loop templates of sheets/ an engineer may start from, as `{ name, title }`. */
 export default defineEventHandler(async (event) => {
-  await requireRole(event)
+  await requireRole(event, 'engineer', 'checker', 'admin')
   // sheets/ is bundled as the Nitro server asset `sheets` (nuxt.config.ts), so the built app needs no source tree.
   const storage = useStorage('assets:sheets')
   const keys = (await storage.getKeys()).filter((key) => key.endsWith('.json')).sort()

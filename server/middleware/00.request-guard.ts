@@ -1,0 +1,39 @@
+// Runs first on every state-changing request (DEVELOPERS.md, "Requests the server refuses"):
+//  - another site's Origin: 403, audited (a cross-site form post must change nothing);
+//  - an /api body that is not application/json: 415 (NON_JSON_ROUTES lists the exceptions, none yet);
+//  - an /api body past its route's limit: 413 naming the field, reading stopped at the limit, chunked or not.
+// The body read here is handed to h3's readBody/readRawBody as `rawBody`, so routes read it as usual.
+import type { IncomingMessage } from 'node:http'
+
+const STATE_CHANGING = new Set(['POST', 'PUT', 'PATCH', 'DELETE'])
+
+export default defineEventHandler(async (event) => {
+  if (!STATE_CHANGING.has(event.method)) return
+  if (!fromOwnOrigin(event)) {
+    return refuse(event, 403, 'Requests from other sites are refused', { origin: getRequestHeader(event, 'origin') })
+  }
+  const path = event.path.split('?')[0] ?? event.path
+  if (!path.startsWith('/api/') || !hasBody(event.node.req)) return
+
+  const mediaType = (getRequestHeader(event, 'content-type') ?? '').split(';')[0]!.trim().toLowerCase()
+  const accepted = NON_JSON_ROUTES[path] ?? ['application/json']
+  if (!accepted.includes(mediaType)) {
+    const message = `Send the body as ${accepted.join(' or ')}${mediaType ? `, not ${mediaType}` : ''}`
+    throw createError({ statusCode: 415, statusMessage: 'Unsupported media type', message, data: { message } })
+  }
+
+  const limit = BODY_LIMITS[path] ?? { bytes: GENERAL_BODY_BYTES, field: 'body', what: `the limit of ${GENERAL_BODY_BYTES / 1024} KiB` }
+  try {
+    ;(event.node.req as IncomingMessage & { rawBody?: Buffer }).rawBody = await readBodyWithin(event, limit.bytes)
+  } catch (error) {
+    if (!(error instanceof BodyTooLargeError)) throw error
+    // The rest of the body is never read: the connection closes after this answer.
+    setResponseHeader(event, 'connection', 'close')
+    const message = `${limit.field}: the body is above ${limit.what} and was not read (reading stops at ${limit.bytes / 1024} KiB)`
+    throw createError({ statusCode: 413, statusMessage: 'Payload too large', message, data: { field: limit.field, message } })
+  }
+})
+
+function hasBody(request: IncomingMessage): boolean {
+  return Number(request.headers['content-length'] ?? 0) > 0 || request.headers['transfer-encoding'] !== undefined
+}
