@@ -30,11 +30,11 @@ export interface BlockModel {
 
 export function loopParameters(loop: LoopFile): LoopParameters {
   const symbols = Object.keys(loop.parameters)
-  const values = symbols.map((s) => loop.parameters[s].value)
+  const values = symbols.map((s) => loop.parameters[s]!.value)
   return {
     symbols,
     scope: { symbols: new Map(symbols.map((s, i) => [s, i])), variables: symbols.length },
-    tex: symbols.map((s) => loop.parameters[s].tex ?? defaultSymbolTex(s)),
+    tex: symbols.map((s) => loop.parameters[s]!.tex ?? defaultSymbolTex(s)),
     values,
     exactValues: values.map(rationalFromNumber),
   }
@@ -55,7 +55,7 @@ export function readBlock(id: string, loop: LoopFile, parameters: LoopParameters
 }
 
 function readBlockModel(id: string, loop: LoopFile, parameters: LoopParameters, padeOrder: number): BlockModel {
-  const block = loop.blocks[id]
+  const block = loop.blocks[id]!
   const field = `blocks.${id}`
   const num = readExpression(block.num, `${field}.num`, parameters.scope)
   const den = readExpression(block.den, `${field}.den`, parameters.scope)

@@ -51,7 +51,7 @@ export function criterionPasses(name: CriterionName, limit: number, value: numbe
 export function criteriaRows(criteria: LoopFile['criteria'], p: Performance): CriterionRow[] {
   return (Object.keys(criteria) as CriterionName[]).map((name) => {
     const bound = criterionBounds[name]
-    const limit = criteria[name][bound]!
+    const limit = criteria[name]![bound]!
     const value = criterionValue(name, p)
     return { name, bound, limit, value, pass: criterionPasses(name, limit, value, p) }
   })

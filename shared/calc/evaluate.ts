@@ -41,7 +41,7 @@ function polynomialAt(ascending: readonly number[], s: Complex): Complex {
   let re = 0
   let im = 0
   for (let k = ascending.length - 1; k >= 0; k--) {
-    const r = re * s.re - im * s.im + ascending[k]
+    const r = re * s.re - im * s.im + ascending[k]!
     im = re * s.im + im * s.re
     re = r
   }

@@ -114,12 +114,12 @@ function sum(a: Quotient, b: Quotient, sign: 1 | -1): Quotient {
 function divide(a: Quotient, b: Quotient, reading: Reading): Quotient {
   if (b.num.length === 0) refuse(reading, 'divides by zero')
   if (b.num.length > 1) refuse(reading, 'divides by an expression in s (a negative power of s); write the block as numerator and denominator polynomials in s')
-  return simplify({ num: scale(a.num, b.den), den: a.den.multiply(b.num[0]) })
+  return simplify({ num: scale(a.num, b.den), den: a.den.multiply(b.num[0]!) })
 }
 
 function raise(baseNode: MathNode, exponentNode: MathNode, reading: Reading): Quotient {
   const exponent = convert(exponentNode, reading)
-  const value = exponent.num.length === 0 ? ONE.sub(ONE) : exponent.num.length === 1 ? exponent.num[0].constantValue : null
+  const value = exponent.num.length === 0 ? ONE.sub(ONE) : exponent.num.length === 1 ? exponent.num[0]!.constantValue : null
   const divisor = exponent.den.constantValue
   if (value === null || divisor === null) refuse(reading, 'has an exponent that is not a number; exponents are whole numbers')
   const k = value.div(divisor)
@@ -134,7 +134,7 @@ function raise(baseNode: MathNode, exponentNode: MathNode, reading: Reading): Qu
   if (k.s > 0n) return simplify({ num: power(base.num, magnitude, v), den: base.den.power(magnitude) })
   if (base.num.length === 0) refuse(reading, 'raises zero to a negative power')
   if (base.num.length > 1) refuse(reading, 'has a negative power of s; write the block as numerator and denominator polynomials in s')
-  return simplify({ num: [base.den.power(magnitude)], den: base.num[0].power(magnitude) })
+  return simplify({ num: [base.den.power(magnitude)], den: base.num[0]!.power(magnitude) })
 }
 
 /**

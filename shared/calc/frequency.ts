@@ -41,12 +41,12 @@ export function frequencyResponse(openLoop: OpenLoop, points = DEFAULT_POINTS, k
   const at = (x: number): Complex => openLoop.at({ re: 0, im: x })
   const phase: number[] = []
   // Start on the branch the rational part (the Padé form when a delay is hidden) gives at the lowest frequency.
-  let previous = nearestBranch(at(w[0]), rationalPhase(factors, w[0]))
+  let previous = nearestBranch(at(w[0]!), rationalPhase(factors, w[0]!))
   phase.push(previous)
   for (let i = 1; i < count; i++) {
-    let x = w[i - 1]
-    while (x < w[i]) {
-      x = Math.min(w[i], nextSample(at, x, w[i] / w[i - 1]))
+    let x = w[i - 1]!
+    while (x < w[i]!) {
+      x = Math.min(w[i]!, nextSample(at, x, w[i]! / w[i - 1]!))
       previous = nearestBranch(at(x), previous)
     }
     phase.push(previous)

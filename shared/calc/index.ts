@@ -71,7 +71,7 @@ export function parseLoopFile(input: unknown): LoopFile {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) throw new LoopInputError('file', 'the loop file is not a JSON object')
   const result = loopFileSchema.safeParse(input)
   if (!result.success) {
-    const issue = result.error.issues[0]
+    const issue = result.error.issues[0]!
     throw new LoopInputError(issue.path.length ? issue.path.join('.') : 'file', issue.message)
   }
   const loop = result.data
@@ -130,7 +130,7 @@ function evaluateParsed(input: unknown, options: EvaluateOptions): CalcResult {
   const numExact = substituteExact(closed.num, parameters.exactValues, deadline)
   const denExact = substituteExact(closed.den, parameters.exactValues, deadline)
   if (denExact.length === 0) throw new LoopInputError('structure', 'the closed loop\'s denominator is zero at the parameters\' values')
-  const lead = denExact[denExact.length - 1]
+  const lead = denExact[denExact.length - 1]!
   const toNumbers = (p: Rational[]) => (p.length === 0 ? [0] : p.map((c) => rationalToNumber(c.div(lead))).reverse())
   const num = toNumbers(numExact)
   const den = toNumbers(denExact)
@@ -178,7 +178,7 @@ function evaluateParsed(input: unknown, options: EvaluateOptions): CalcResult {
     const olNumExact = substituteExact(model.tf.num, parameters.exactValues, deadline)
     const olDenExact = substituteExact(model.tf.den, parameters.exactValues, deadline)
     if (olDenExact.length === 0) throw new LoopInputError('structure', 'the open loop\'s denominator is zero at the parameters\' values')
-    const olLead = olDenExact[olDenExact.length - 1]
+    const olLead = olDenExact[olDenExact.length - 1]!
     const olNumbers = (p: Rational[]) => (p.length === 0 ? [0] : p.map((c) => rationalToNumber(c.div(olLead))).reverse())
     openLoopFactory = openLoopAt(model)
     const openLoop = openLoopFactory(parameters.values, nominalBlocks, { num: olNumbers(olNumExact), den: olNumbers(olDenExact) })

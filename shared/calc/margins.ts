@@ -64,7 +64,7 @@ export function stabilityMargins(openLoop: OpenLoop): Margins {
   if (Math.abs(((factors.lowFrequencyPhase % (2 * Math.PI)) + 2 * Math.PI) % (2 * Math.PI) - Math.PI) < 1e-9) {
     warnings.push(
       factors.type === 0
-        ? `L(0) = ${formatNumber(num[num.length - 1] / den[den.length - 1])} lies on the negative real axis; crossings at ω = 0 are not counted as phase crossovers.`
+        ? `L(0) = ${formatNumber(num[num.length - 1]! / den[den.length - 1]!)} lies on the negative real axis; crossings at ω = 0 are not counted as phase crossovers.`
         : 'As ω → 0, L(jω) approaches the negative real axis (phase −180°); crossings at ω = 0 are not counted as phase crossovers.',
     )
   }
@@ -172,7 +172,7 @@ function partsInOmega(p: readonly number[]): { re: number[]; im: number[] } {
   const im = new Array(n + 1).fill(0)
   for (let i = 0; i <= n; i++) {
     const k = n - i
-    const c = p[i]
+    const c = p[i]!
     // j^k cycles 1, j, −1, −j.
     if (k % 4 === 0) re[k] += c
     else if (k % 4 === 1) im[k] += c
@@ -184,7 +184,7 @@ function partsInOmega(p: readonly number[]): { re: number[]; im: number[] } {
 
 function multiplyLow(a: readonly number[], b: readonly number[]): number[] {
   const out = new Array(a.length + b.length - 1).fill(0)
-  for (let i = 0; i < a.length; i++) for (let j = 0; j < b.length; j++) out[i + j] += a[i] * b[j]
+  for (let i = 0; i < a.length; i++) for (let j = 0; j < b.length; j++) out[i + j] += a[i]! * b[j]!
   return out
 }
 
@@ -207,7 +207,7 @@ const absolute = (p: readonly number[]) => p.map(Math.abs)
  * (to rounding).
  */
 function positiveRealCandidates(low: readonly number[], scale: readonly number[]): number[] | null {
-  const cleaned = low.map((c, k) => (Math.abs(c) <= 1e-13 * scale[k] ? 0 : c))
+  const cleaned = low.map((c, k) => (Math.abs(c) <= 1e-13 * scale[k]! ? 0 : c))
   if (cleaned.every((c) => c === 0)) return null
   return findRoots(cleaned.reverse())
     .filter((r) => r.re > 0 && Math.abs(r.im) <= 1e-3 * r.re)
@@ -217,7 +217,7 @@ function positiveRealCandidates(low: readonly number[], scale: readonly number[]
 /** Even (ω⁰, ω², …) or odd (ω¹, ω³, …) coefficients of a polynomial in ω, as a polynomial in x = ω². */
 function inOmegaSquared(low: readonly number[], odd: boolean): number[] {
   const out: number[] = []
-  for (let k = odd ? 1 : 0; k < low.length; k += 2) out.push(low[k])
+  for (let k = odd ? 1 : 0; k < low.length; k += 2) out.push(low[k]!)
   return out.length > 0 ? out : [0]
 }
 
@@ -346,7 +346,7 @@ function delayPhaseCrossings(f: FactoredRational, theta: number, warnings: strin
     const before = found.length
     isolate(w1, w2, p1, p2, 0)
     found.sort((a, b) => a - b)
-    for (let i = before; i < found.length; i++) largestGain = Math.max(largestGain, rationalMagnitude(f, found[i]))
+    for (let i = before; i < found.length; i++) largestGain = Math.max(largestGain, rationalMagnitude(f, found[i]!))
     if (found.length >= MAX_PHASE_CROSSINGS) {
       warnings.push(`With the dead time the phase keeps falling and L(jω) crosses the negative real axis without end; the first ${MAX_PHASE_CROSSINGS} crossings are listed.`)
       break

@@ -23,7 +23,7 @@ export function multiply(a: Float64Array, b: Float64Array, size: number, out: Fl
   for (let i = 0; i < size; i++) {
     for (let j = 0; j < size; j++) {
       let sum = 0
-      for (let k = 0; k < size; k++) sum += a[i * size + k] * b[k * size + j]
+      for (let k = 0; k < size; k++) sum += a[i * size + k]! * b[k * size + j]!
       out[i * size + j] = sum
     }
   }
@@ -34,7 +34,7 @@ export function normOne(a: Float64Array, size: number): number {
   let best = 0
   for (let j = 0; j < size; j++) {
     let sum = 0
-    for (let i = 0; i < size; i++) sum += Math.abs(a[i * size + j])
+    for (let i = 0; i < size; i++) sum += Math.abs(a[i * size + j]!)
     best = Math.max(best, sum)
   }
   return best
@@ -50,9 +50,9 @@ export function exponentialTaylor(a: Float64Array, size: number, scale: number):
     const factor = scale / k
     let termNorm = 0
     for (let i = 0; i < next.length; i++) {
-      next[i] *= factor
-      sum[i] += next[i]
-      termNorm = Math.max(termNorm, Math.abs(next[i]))
+      next[i]! *= factor
+      sum[i]! += next[i]!
+      termNorm = Math.max(termNorm, Math.abs(next[i]!))
     }
     const swap = term
     term = next
@@ -71,12 +71,13 @@ export function exponentialChain(a: Float64Array, size: number, scale = 1): Floa
   const s = norm > 0.5 ? Math.ceil(Math.log2(norm / 0.5)) : 0
   const chain: Float64Array[] = new Array(s + 1)
   chain[s] = exponentialTaylor(a, size, scale / 2 ** s)
-  for (let j = s - 1; j >= 0; j--) chain[j] = multiply(chain[j + 1], chain[j + 1], size)
+  for (let j = s - 1; j >= 0; j--) chain[j] = multiply(chain[j + 1]!, chain[j + 1]!, size)
   return chain
 }
 
 export function exponential(a: Float64Array, size: number, scale = 1): Float64Array {
-  return exponentialChain(a, size, scale)[0]
+  // The chain always holds at least the exponential itself.
+  return exponentialChain(a, size, scale)[0]!
 }
 
 /**
@@ -88,12 +89,12 @@ export function exponential(a: Float64Array, size: number, scale = 1): Float64Ar
 export function exponentialHalves(a: Float64Array, size: number, scale: number, levels: number): Float64Array[] {
   const chain = exponentialChain(a, size, scale)
   const out: Float64Array[] = new Array(levels + 1)
-  for (let j = 0; j < chain.length && j <= levels; j++) out[j] = chain[j]
+  for (let j = 0; j < chain.length && j <= levels; j++) out[j] = chain[j]!
   let j = levels
   while (j >= chain.length) {
     const anchor = Math.max(chain.length, j - 7)
     out[j] = exponentialTaylor(a, size, scale / 2 ** j)
-    for (let q = j - 1; q >= anchor; q--) out[q] = multiply(out[q + 1], out[q + 1], size)
+    for (let q = j - 1; q >= anchor; q--) out[q] = multiply(out[q + 1]!, out[q + 1]!, size)
     j = anchor - 1
   }
   return out

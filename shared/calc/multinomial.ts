@@ -47,6 +47,7 @@ export class Multinomial {
     if (this.terms.size === 0) return ZERO
     if (this.terms.size > 1) return null
     const [term] = this.terms.values()
+    if (term === undefined) return ZERO
     return term.exponents.every((e) => e === 0) ? term.coefficient : null
   }
 
@@ -99,7 +100,7 @@ export class Multinomial {
     let work = 0
     for (const a of this.terms.values()) {
       for (const b of other.terms.values()) {
-        const exponents = a.exponents.map((e, i) => e + b.exponents[i])
+        const exponents = a.exponents.map((e, i) => e + b.exponents[i]!)
         accumulate(terms, exponents.join(','), exponents, a.coefficient.mul(b.coefficient))
         if (deadline && ++work % 4096 === 0) deadline.check('the expansion of the polynomials')
       }
@@ -124,7 +125,7 @@ export class Multinomial {
     for (const { exponents, coefficient } of this.terms.values()) {
       if (deadline && ++work % 1024 === 0) deadline.check('the substitution of the parameters\' values')
       let term = coefficient
-      for (let i = 0; i < exponents.length; i++) if (exponents[i] > 0) term = term.mul(values[i].pow(exponents[i]))
+      for (let i = 0; i < exponents.length; i++) if (exponents[i]! > 0) term = term.mul(values[i]!.pow(exponents[i]!))
       sum = sum.add(term)
     }
     return sum
@@ -143,8 +144,8 @@ export class Multinomial {
     return (values) => {
       let sum = 0
       for (let k = 0; k < coefficients.length; k++) {
-        let term = coefficients[k]
-        for (const [i, e] of powers[k]) term *= e === 1 ? values[i] : values[i] ** e
+        let term = coefficients[k]!
+        for (const [i, e] of powers[k]!) term *= e === 1 ? values[i]! : values[i]! ** e
         sum += term
       }
       return sum
@@ -160,9 +161,9 @@ export class Multinomial {
     for (const { exponents, coefficient } of this.terms.values()) {
       let term = rationalToNumber(coefficient)
       exponents.forEach((e, i) => {
-        if (i !== index && e > 0) term *= values[i] ** e
+        if (i !== index && e > 0) term *= values[i]! ** e
       })
-      const p = exponents[index]
+      const p = exponents[index]!
       byPower[p] = (byPower[p] ?? 0) + term
     }
     const out: number[] = []

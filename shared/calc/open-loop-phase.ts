@@ -29,7 +29,10 @@ export function factorRational(num: number[], den: number[]): FactoredRational {
   const type = atOrigin(poles) - atOrigin(zeros)
   // Low-frequency asymptote: lowest non-zero coefficients.
   const lowest = (p: number[]) => {
-    for (let i = p.length - 1; i >= 0; i--) if (p[i] !== 0) return p[i]
+    for (let i = p.length - 1; i >= 0; i--) {
+      const c = p[i]!
+      if (c !== 0) return c
+    }
     return 0
   }
   const c = lowest(n) / lowest(d)
@@ -38,7 +41,7 @@ export function factorRational(num: number[], den: number[]): FactoredRational {
   let lowFrequencyPhase = (c < 0 ? -Math.PI : 0) - (type * Math.PI) / 2
   while (lowFrequencyPhase <= (-3 * Math.PI) / 2 - 1e-12) lowFrequencyPhase += 2 * Math.PI
   while (lowFrequencyPhase > Math.PI / 2 + 1e-12) lowFrequencyPhase -= 2 * Math.PI
-  const factored: FactoredRational = { gain: n[0] / d[0], zeros, poles, type, lowFrequencyPhase, offset: 0 }
+  const factored: FactoredRational = { gain: n[0]! / d[0]!, zeros, poles, type, lowFrequencyPhase, offset: 0 }
   // The sum's own value as ω → 0⁺, then the 2π shift onto the reading above.
   const tiny = 1e-300
   const raw = rawPhase(factored, tiny)

@@ -69,7 +69,7 @@ export function openLoopModel(outer: FeedbackParts, blocks: ReadonlyMap<string, 
 export function normalised(num: number[], den: number[]): { num: number[]; den: number[] } {
   let i = 0
   while (i < den.length - 1 && den[i] === 0) i++
-  const lead = den[i]
+  const lead = den[i]!
   let j = 0
   while (j < num.length - 1 && num[j] === 0) j++
   return { num: num.slice(j).map((c) => c / lead), den: den.slice(i).map((c) => c / lead) }

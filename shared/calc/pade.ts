@@ -29,7 +29,7 @@ export function padeDelay(thetaNum: Multinomial, thetaDen: Multinomial, order: n
   const den: Multinomial[] = []
   let aPower = Multinomial.constant(variables, ONE)
   for (let k = 0; k <= order; k++) {
-    const coefficient = aPower.multiply(thetaDen.power(order - k)).scale(c[k])
+    const coefficient = aPower.multiply(thetaDen.power(order - k)).scale(c[k]!)
     den.push(coefficient)
     num.push(k % 2 === 0 ? coefficient : coefficient.negate())
     aPower = aPower.multiply(thetaNum)

@@ -19,7 +19,7 @@ export interface TransferFunction {
 
 export function trim(p: Multinomial[]): Polynomial {
   let n = p.length
-  while (n > 0 && p[n - 1].isZero) n--
+  while (n > 0 && p[n - 1]!.isZero) n--
   return n === p.length ? p : p.slice(0, n)
 }
 
@@ -32,13 +32,13 @@ export function degree(p: Polynomial): number {
 }
 
 export function isOnePolynomial(p: Polynomial): boolean {
-  return p.length === 1 && p[0].isOne
+  return p.length === 1 && p[0]!.isOne
 }
 
 export function add(a: Polynomial, b: Polynomial): Polynomial {
   const out: Multinomial[] = []
   for (let k = 0; k < Math.max(a.length, b.length); k++) {
-    out.push(k >= a.length ? b[k] : k >= b.length ? a[k] : a[k].add(b[k]))
+    out.push(k >= a.length ? b[k]! : k >= b.length ? a[k]! : a[k]!.add(b[k]!))
   }
   return trim(out)
 }
@@ -56,13 +56,13 @@ export function multiply(a: Polynomial, b: Polynomial, deadline?: Deadline): Pol
   if (isOnePolynomial(a)) return b
   if (isOnePolynomial(b)) return a
   checkTermProducts(termCount(a), termCount(b))
-  const variables = a[0].variables
+  const variables = a[0]!.variables
   const out: Multinomial[] = Array.from({ length: a.length + b.length - 1 }, () => new Multinomial(variables))
   for (let i = 0; i < a.length; i++) {
-    if (a[i].isZero) continue
+    if (a[i]!.isZero) continue
     for (let j = 0; j < b.length; j++) {
-      if (b[j].isZero) continue
-      out[i + j] = out[i + j].add(a[i].multiply(b[j], deadline))
+      if (b[j]!.isZero) continue
+      out[i + j] = out[i + j]!.add(a[i]!.multiply(b[j]!, deadline))
     }
   }
   return trim(out)
@@ -81,7 +81,7 @@ export function scale(p: Polynomial, factor: Multinomial, deadline?: Deadline): 
 /** s^k · p */
 export function shift(p: Polynomial, k: number): Polynomial {
   if (p.length === 0 || k === 0) return p
-  const variables = p[0].variables
+  const variables = p[0]!.variables
   return [...Array.from({ length: k }, () => new Multinomial(variables)), ...p]
 }
 
@@ -104,7 +104,7 @@ export function isZeroPolynomial(p: Polynomial): boolean {
 export function substituteExact(p: Polynomial, values: readonly Rational[], deadline?: Deadline): Rational[] {
   const out = p.map((c) => c.evaluateExact(values, deadline))
   let n = out.length
-  while (n > 0 && isZero(out[n - 1])) n--
+  while (n > 0 && isZero(out[n - 1]!)) n--
   return out.slice(0, n)
 }
 

@@ -130,7 +130,7 @@ export function reduceStructure(
     }
     if ('series' in node) {
       const parts = node.series.map((n) => reduce(n, false))
-      if (parts.length === 1 && !outermost) return parts[0]
+      if (parts.length === 1 && !outermost) return parts[0]!
       const tf = {
         num: multiplyAll(parts.map((p) => p.tf.num), variables, deadline),
         den: multiplyAll(parts.map((p) => p.tf.den), variables, deadline),
@@ -155,13 +155,13 @@ export function reduceStructure(
       const middle: string[] = []
       parts.forEach((p, i) => {
         const others = parts.filter((_, j) => j !== i)
-        num = addSigned(num, multiplyAll([p.tf.num, ...others.map((o) => o.tf.den)], variables, deadline), signs[i])
-        if (wantSteps) middle.push(`${i === 0 ? (signs[i] < 0 ? '-' : '') : signs[i] < 0 ? ' - ' : ' + '}${productTex([p.tf.num, ...others.map((o) => o.tf.den)].map((f) => factorTex(f, names)))}`)
+        num = addSigned(num, multiplyAll([p.tf.num, ...others.map((o) => o.tf.den)], variables, deadline), signs[i]!)
+        if (wantSteps) middle.push(`${i === 0 ? (signs[i]! < 0 ? '-' : '') : signs[i]! < 0 ? ' - ' : ' + '}${productTex([p.tf.num, ...others.map((o) => o.tf.den)].map((f) => factorTex(f, names)))}`)
       })
       const tf = { num, den }
       const name = outermost ? 'T' : `G_{${++counters.g}}`
       if (wantSteps) {
-        const sum = parts.map((p, i) => `${i === 0 ? (signs[i] < 0 ? '-' : '') : signs[i] < 0 ? ' - ' : ' + '}${p.name}(s)`).join('')
+        const sum = parts.map((p, i) => `${i === 0 ? (signs[i]! < 0 ? '-' : '') : signs[i]! < 0 ? ' - ' : ' + '}${p.name}(s)`).join('')
         steps.push({
           kind: 'parallel',
           title: `Parallel sum ${name}`.replace(/[{}_]/g, ''),

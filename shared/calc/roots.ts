@@ -65,8 +65,8 @@ export function findRoots(coefficients: readonly number[]): RawRoot[] {
   }
   const p = a.slice(0, last + 1)
   const n = p.length - 1
-  if (n === 1) roots.push({ re: -p[1] / p[0], im: 0 })
-  else if (n === 2) roots.push(...quadraticRoots(p[0], p[1], p[2]))
+  if (n === 1) roots.push({ re: -p[1]! / p[0]!, im: 0 })
+  else if (n === 2) roots.push(...quadraticRoots(p[0]!, p[1]!, p[2]!))
   else if (n > 2) roots.push(...generalRoots(p))
   return sortRoots(roots)
 }
@@ -113,17 +113,17 @@ function evaluate(p: readonly number[], zr: number, zi: number): Evaluation {
   const n = p.length - 1
   const modulus = modulusOf(zr, zi)
   if (modulus <= 1) {
-    let br = p[0]
+    let br = p[0]!
     let bi = 0
     let dr = 0
     let di = 0
-    let e = Math.abs(p[0]) / 2
+    let e = Math.abs(p[0]!) / 2
     for (let k = 1; k <= n; k++) {
       const ndr = dr * zr - di * zi + br
       const ndi = dr * zi + di * zr + bi
       dr = ndr
       di = ndi
-      const nbr = br * zr - bi * zi + p[k]
+      const nbr = br * zr - bi * zi + p[k]!
       const nbi = br * zi + bi * zr
       br = nbr
       bi = nbi
@@ -140,17 +140,17 @@ function evaluate(p: readonly number[], zr: number, zi: number): Evaluation {
   const wr = zr / (modulus * modulus)
   const wi = -zi / (modulus * modulus)
   const wm = 1 / modulus
-  let qr = p[n]
+  let qr = p[n]!
   let qi = 0
   let dr = 0
   let di = 0
-  let e = Math.abs(p[n]) / 2
+  let e = Math.abs(p[n]!) / 2
   for (let k = n - 1; k >= 0; k--) {
     const ndr = dr * wr - di * wi + qr
     const ndi = dr * wi + di * wr + qi
     dr = ndr
     di = ndi
-    const nqr = qr * wr - qi * wi + p[k]
+    const nqr = qr * wr - qi * wi + p[k]!
     const nqi = qr * wi + qi * wr
     qr = nqr
     qi = nqi
@@ -179,17 +179,17 @@ function startingPoints(p: readonly number[]): RawRoot[] {
   // Index k is the power of z: coefficient p[n − k].
   const logs: number[] = []
   for (let k = 0; k <= n; k++) {
-    const c = Math.abs(p[n - k])
+    const c = Math.abs(p[n - k]!)
     logs.push(c === 0 ? -Infinity : Math.log(c))
   }
   const hull: number[] = [0]
   for (let k = 1; k <= n; k++) {
     if (logs[k] === -Infinity) continue
     while (hull.length >= 2) {
-      const i = hull[hull.length - 2]
-      const j = hull[hull.length - 1]
+      const i = hull[hull.length - 2]!
+      const j = hull[hull.length - 1]!
       // Remove j when it lies on or below the segment from i to k.
-      if ((logs[j] - logs[i]) * (k - i) <= (logs[k] - logs[i]) * (j - i)) hull.pop()
+      if ((logs[j]! - logs[i]!) * (k - i) <= (logs[k]! - logs[i]!) * (j - i)) hull.pop()
       else break
     }
     hull.push(k)
@@ -198,10 +198,10 @@ function startingPoints(p: readonly number[]): RawRoot[] {
   // An offset angle avoids starting points symmetric about the real axis, which Aberth cannot break.
   const sigma = 0.7
   for (let h = 0; h + 1 < hull.length; h++) {
-    const i = hull[h]
-    const j = hull[h + 1]
+    const i = hull[h]!
+    const j = hull[h + 1]!
     const count = j - i
-    const radius = Math.exp((logs[i] - logs[j]) / count)
+    const radius = Math.exp((logs[i]! - logs[j]!) / count)
     for (let m = 0; m < count; m++) {
       const angle = (2 * Math.PI * m) / count + (2 * Math.PI * h) / n + sigma
       points.push({ re: radius * Math.cos(angle), im: radius * Math.sin(angle) })
@@ -218,7 +218,7 @@ function generalRoots(p: readonly number[]): RawRoot[] {
   for (let iteration = 0; iteration < 200 && remaining > 0; iteration++) {
     for (let i = 0; i < n; i++) {
       if (converged[i]) continue
-      const zi = z[i]
+      const zi = z[i]!
       const ev = evaluate(p, zi.re, zi.im)
       if (ev.value <= ev.error) {
         converged[i] = true
@@ -229,8 +229,8 @@ function generalRoots(p: readonly number[]): RawRoot[] {
       let si = 0
       for (let j = 0; j < n; j++) {
         if (j === i) continue
-        const dr = zi.re - z[j].re
-        const di = zi.im - z[j].im
+        const dr = zi.re - z[j]!.re
+        const di = zi.im - z[j]!.im
         const d = dr * dr + di * di
         if (d === 0) continue
         sr += dr / d
@@ -279,14 +279,14 @@ function polish(p: readonly number[], z: RawRoot): void {
  */
 function inclusionRadii(p: readonly number[], z: readonly RawRoot[]): number[] {
   const n = z.length
-  const lead = Math.abs(p[0])
-  const scale = Math.pow(Math.abs(p[n] / p[0]), 1 / n) || 1
+  const lead = Math.abs(p[0]!)
+  const scale = Math.pow(Math.abs(p[n]! / p[0]!), 1 / n) || 1
   return z.map((zi, i) => {
     const ev = evaluate(p, zi.re, zi.im)
     // Work in logs: the product of distances can under- or overflow at degree 40.
     let logProduct = 0
     for (let j = 0; j < n; j++) {
-      if (j !== i) logProduct += Math.log(modulusOf(zi.re - z[j].re, zi.im - z[j].im))
+      if (j !== i) logProduct += Math.log(modulusOf(zi.re - z[j]!.re, zi.im - z[j]!.im))
     }
     const r = Math.exp(Math.log(n) + ev.logBound - Math.log(lead) - logProduct)
     const cap = 0.1 * (modulusOf(zi.re, zi.im) + scale)
@@ -309,10 +309,10 @@ function tidy(p: readonly number[], z: RawRoot[]): RawRoot[] {
   const radii = inclusionRadii(p, z)
   // Connected components of overlapping disks (union–find).
   const parent = z.map((_, i) => i)
-  const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i])))
+  const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i]!)))
   for (let i = 0; i < n; i++) {
     for (let j = i + 1; j < n; j++) {
-      if (modulusOf(z[i].re - z[j].re, z[i].im - z[j].im) <= radii[i] + radii[j]) parent[find(i)] = find(j)
+      if (modulusOf(z[i]!.re - z[j]!.re, z[i]!.im - z[j]!.im) <= radii[i]! + radii[j]!) parent[find(i)] = find(j)
     }
   }
   const groups = new Map<number, number[]>()
@@ -331,15 +331,15 @@ function tidy(p: readonly number[], z: RawRoot[]): RawRoot[] {
     let cr = 0
     let ci = 0
     for (const i of members) {
-      cr += z[i].re / m
-      ci += z[i].im / m
+      cr += z[i]!.re / m
+      ci += z[i]!.im / m
     }
     let extent = 0
-    for (const i of members) extent = Math.max(extent, modulusOf(z[i].re - cr, z[i].im - ci) + radii[i])
+    for (const i of members) extent = Math.max(extent, modulusOf(z[i]!.re - cr, z[i]!.im - ci) + radii[i]!)
     const touchesRealAxis = Math.abs(ci) <= extent
     let values: RawRoot[]
     if (m === 1) {
-      values = [{ re: z[members[0]].re, im: z[members[0]].im }]
+      values = [{ re: z[members[0]!]!.re, im: z[members[0]!]!.im }]
     } else {
       // A multiple root: the (m−1)-th derivative has a simple root there.
       const q = derivative(p, m - 1)
@@ -351,7 +351,7 @@ function tidy(p: readonly number[], z: RawRoot[]): RawRoot[] {
         if (!touchesRealAxis) c.im -= ev.stepIm
       }
       const inside = Number.isFinite(c.re) && Number.isFinite(c.im) && modulusOf(c.re - cr, c.im - ci) <= extent
-      values = inside ? members.map(() => ({ re: c.re, im: c.im })) : members.map((i) => ({ re: z[i].re, im: z[i].im }))
+      values = inside ? members.map(() => ({ re: c.re, im: c.im })) : members.map((i) => ({ re: z[i]!.re, im: z[i]!.im }))
     }
     for (const v of values) {
       // A component whose disks reach the real axis is real: its conjugate image is
@@ -378,7 +378,7 @@ function tidy(p: readonly number[], z: RawRoot[]): RawRoot[] {
       out.push({ re: u.re, im: 0 })
       continue
     }
-    const l = unpairedLower.splice(best, 1)[0]
+    const l = unpairedLower.splice(best, 1)[0]!
     const re = (u.re + l.re) / 2
     const im = (u.im - l.im) / 2
     out.push({ re, im }, { re, im: -im })

@@ -34,14 +34,14 @@ export function routhArray(coefficients: number[]): RouthResult {
   const width = (power: number) => Math.floor(power / 2) + 1
   const label = (k: number) => `s^${n - k}`
 
-  rows.push(Array.from({ length: width(n) }, (_, j) => a[2 * j]))
+  rows.push(Array.from({ length: width(n) }, (_, j) => a[2 * j]!))
   if (n >= 1) rows.push(Array.from({ length: width(n - 1) }, (_, j) => a[2 * j + 1] ?? 0))
 
   const fixRow = (k: number): void => {
-    const row = rows[k]
+    const row = rows[k]!
     if (row[0] !== 0) return
     if (isZeroRow(row)) {
-      const above = rows[k - 1]
+      const above = rows[k - 1]!
       const power = n - k + 1
       const auxiliary = above
         .map((c, j) => monomial(c, power - 2 * j))
@@ -62,13 +62,13 @@ export function routhArray(coefficients: number[]): RouthResult {
 
   if (n >= 1) fixRow(1)
   for (let k = 2; k <= n; k++) {
-    const upper = rows[k - 2]
-    const lower = rows[k - 1]
-    const pivot = lower[0]
+    const upper = rows[k - 2]!
+    const lower = rows[k - 1]!
+    const pivot = lower[0]!
     const row: number[] = []
     for (let j = 0; j < width(n - k); j++) {
       const left = pivot * (upper[j + 1] ?? 0)
-      const right = upper[0] * (lower[j + 1] ?? 0)
+      const right = upper[0]! * (lower[j + 1] ?? 0)
       const value = (left - right) / pivot
       const scale = Math.max(Math.abs(left), Math.abs(right)) / Math.abs(pivot)
       row.push(Math.abs(value) <= ZERO_TOLERANCE * scale ? 0 : value)
@@ -77,10 +77,10 @@ export function routhArray(coefficients: number[]): RouthResult {
     fixRow(k)
   }
 
-  const firstColumn = rows.map((r) => r[0])
+  const firstColumn = rows.map((r) => r[0]!)
   let signChanges = 0
   for (let k = 1; k < firstColumn.length; k++) {
-    if (Math.sign(firstColumn[k]) !== Math.sign(firstColumn[k - 1])) signChanges++
+    if (Math.sign(firstColumn[k]!) !== Math.sign(firstColumn[k - 1]!)) signChanges++
   }
   notes.push(
     signChanges === 0

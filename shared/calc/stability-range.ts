@@ -28,7 +28,7 @@ export function stableIntervals(denInParameter: number[][], search: [number, num
   checkDeadline(options, 'the stability range', started)
   const [lo, hi] = search[0] <= search[1] ? search : [search[1], search[0]]
   const coefficients = denInParameter.map((c) => trimPolynomial(c))
-  while (coefficients.length > 1 && isZeroPolynomial(coefficients[0])) coefficients.shift()
+  while (coefficients.length > 1 && isZeroPolynomial(coefficients[0]!)) coefficients.shift()
   const n = coefficients.length - 1
 
   const candidates = [lo, hi]
@@ -38,20 +38,20 @@ export function stableIntervals(denInParameter: number[][], search: [number, num
       if (Math.abs(r.im) <= 1e-7 * Math.max(1, Math.abs(r.re)) && r.re > lo && r.re < hi) candidates.push(r.re)
     }
   }
-  addRoots(coefficients[0])
-  addRoots(coefficients[n])
+  addRoots(coefficients[0]!)
+  addRoots(coefficients[n]!)
   if (n >= 2) addRoots(hurwitzDeterminant(coefficients, n - 1, options, started))
   candidates.sort((a, b) => a - b)
-  const points = candidates.filter((c, i) => i === 0 || c - candidates[i - 1] > 1e-12 * Math.max(1, Math.abs(c)))
+  const points = candidates.filter((c, i) => i === 0 || c - candidates[i - 1]! > 1e-12 * Math.max(1, Math.abs(c)))
 
   const intervals: Array<[number, number]> = []
   for (let i = 0; i + 1 < points.length; i++) {
     checkDeadline(options, 'the stability range', started)
-    const mid = 0.5 * (points[i] + points[i + 1])
+    const mid = 0.5 * (points[i]! + points[i + 1]!)
     if (!isStableAt(coefficients, mid)) continue
     const last = intervals[intervals.length - 1]
-    if (last && last[1] === points[i]) last[1] = points[i + 1]
-    else intervals.push([points[i], points[i + 1]])
+    if (last && last[1] === points[i]) last[1] = points[i + 1]!
+    else intervals.push([points[i]!, points[i + 1]!])
   }
   if (lo === hi && isStableAt(coefficients, lo)) intervals.push([lo, hi])
   return intervals
@@ -67,7 +67,7 @@ function isStableAt(coefficients: number[][], p: number): boolean {
 /** Δ(order) of the Hurwitz matrix H[i][j] = a_{2j−i+1} (0-based), as a polynomial in p. */
 export function hurwitzDeterminant(a: number[][], order: number, options: DeadlineOption = {}, started = Date.now()): number[] {
   const n = a.length - 1
-  const entry = (k: number) => (k >= 0 && k <= n ? a[k] : [0])
+  const entry = (k: number) => (k >= 0 && k <= n ? a[k]! : [0])
   const m: number[][][] = []
   for (let i = 0; i < order; i++) {
     const row: number[][] = []
@@ -78,25 +78,25 @@ export function hurwitzDeterminant(a: number[][], order: number, options: Deadli
   let previous: number[] = [1]
   for (let k = 0; k < order - 1; k++) {
     checkDeadline(options, 'the stability range', started)
-    if (isZeroPolynomial(m[k][k])) {
-      const swap = m.findIndex((row, r) => r > k && !isZeroPolynomial(row[k]))
+    if (isZeroPolynomial(m[k]![k]!)) {
+      const swap = m.findIndex((row, r) => r > k && !isZeroPolynomial(row[k]!))
       if (swap < 0) return [0]
-      ;[m[k], m[swap]] = [m[swap], m[k]]
+      ;[m[k], m[swap]] = [m[swap]!, m[k]!]
       sign = -sign
     }
     for (let i = k + 1; i < order; i++) {
       for (let j = k + 1; j < order; j++) {
-        const left = multiply(m[k][k], m[i][j])
-        const right = multiply(m[i][k], m[k][j])
+        const left = multiply(m[k]![k]!, m[i]![j]!)
+        const right = multiply(m[i]![k]!, m[k]![j]!)
         const scale = Math.max(norm(left), norm(right))
         const difference = subtract(left, right)
-        m[i][j] = norm(difference) <= 1e-12 * scale ? [0] : divideExactly(trimRelative(difference, 1e-12 * scale), previous)
+        m[i]![j] = norm(difference) <= 1e-12 * scale ? [0] : divideExactly(trimRelative(difference, 1e-12 * scale), previous)
       }
-      m[i][k] = [0]
+      m[i]![k] = [0]
     }
-    previous = m[k][k]
+    previous = m[k]![k]!
   }
-  const det = m[order - 1][order - 1]
+  const det = m[order - 1]![order - 1]!
   return sign === 1 ? det : det.map((c) => -c)
 }
 
@@ -109,7 +109,7 @@ function trimPolynomial(p: readonly number[]): number[] {
 /** Leading coefficients that are rounding residue (below `tolerance`) dropped. */
 function trimRelative(p: readonly number[], tolerance: number): number[] {
   let first = 0
-  while (first < p.length - 1 && Math.abs(p[first]) <= tolerance) first++
+  while (first < p.length - 1 && Math.abs(p[first]!) <= tolerance) first++
   return p.slice(first)
 }
 
@@ -129,7 +129,7 @@ function horner(p: readonly number[], x: number): number {
 
 function multiply(a: readonly number[], b: readonly number[]): number[] {
   const out = new Array(a.length + b.length - 1).fill(0)
-  for (let i = 0; i < a.length; i++) for (let j = 0; j < b.length; j++) out[i + j] += a[i] * b[j]
+  for (let i = 0; i < a.length; i++) for (let j = 0; j < b.length; j++) out[i + j] += a[i]! * b[j]!
   return trimPolynomial(out)
 }
 
@@ -148,8 +148,8 @@ function divideExactly(numerator: readonly number[], divisor: readonly number[])
   if (r.length < d.length) return [0]
   const q = new Array(r.length - d.length + 1).fill(0)
   for (let i = 0; i < q.length; i++) {
-    q[i] = r[i] / d[0]
-    for (let j = 0; j < d.length; j++) r[i + j] -= q[i] * d[j]
+    q[i] = r[i]! / d[0]!
+    for (let j = 0; j < d.length; j++) r[i + j]! -= q[i] * d[j]!
   }
   return trimPolynomial(q)
 }

@@ -54,10 +54,10 @@ export function stepResponse(num: number[], den: number[], options: StepOptions 
   const roots = options.poles && options.poles.length === n ? options.poles.map((r) => ({ re: r.re, im: r.im })) : findRoots(d)
   const poles = roots.map(toRoot)
   const verdict = stabilityVerdict(d, routhArray(d), poles)
-  const finalValue = verdict === 'stable' ? b[b.length - 1] / d[n] : null
+  const finalValue = verdict === 'stable' ? b[b.length - 1]! / d[n]! : null
 
   if (n === 0) {
-    const gain = b[0] / d[0]
+    const gain = b[0]! / d[0]!
     return {
       metrics: { final_value: gain, overshoot_pct: 0, peak_time_s: null, rise_time_s: 0, settling_time_s: 0 },
       t: [0, 1],
@@ -94,7 +94,7 @@ export function stepResponse(num: number[], den: number[], options: StepOptions 
     const y0 = finalValue as number
     // Settled when the last tenth keeps within half the band.
     let worst = 0
-    for (let k = Math.floor(count * 0.9); k <= count; k++) worst = Math.max(worst, Math.abs(sim.y[k] - y0))
+    for (let k = Math.floor(count * 0.9); k <= count; k++) worst = Math.max(worst, Math.abs(sim.y[k]! - y0))
     const atLimit = count === MAX_SAMPLES
     if (worst > 0.5 * SETTLING_BAND * Math.abs(y0) && !atLimit) {
       horizon *= 2
@@ -102,8 +102,8 @@ export function stepResponse(num: number[], den: number[], options: StepOptions 
     }
     // Still climbing above the final value at the end: the peak lies later.
     let top = 0
-    for (let k = 1; k <= count; k++) if (sim.y[k] / y0 > sim.y[top] / y0) top = k
-    if (top === count && sim.y[count] / y0 - 1 > OVERSHOOT_FLOOR && !atLimit) {
+    for (let k = 1; k <= count; k++) if (sim.y[k]! / y0 > sim.y[top]! / y0) top = k
+    if (top === count && sim.y[count]! / y0 - 1 > OVERSHOOT_FLOOR && !atLimit) {
       horizon *= 1.5
       continue
     }
@@ -158,18 +158,18 @@ interface CanonicalForm {
 function canonicalForm(num: number[], den: number[], omega0: number): CanonicalForm {
   const n = den.length - 1
   const a: number[] = []
-  for (let i = 0; i <= n; i++) a.push(den[i] / den[0] / omega0 ** i)
+  for (let i = 0; i <= n; i++) a.push(den[i]! / den[0]! / omega0 ** i)
   const padded = new Array(n + 1 - num.length).fill(0).concat(num)
   const bb: number[] = []
-  for (let i = 0; i <= n; i++) bb.push(padded[i] / den[0] / omega0 ** i)
+  for (let i = 0; i <= n; i++) bb.push(padded[i] / den[0]! / omega0 ** i)
   const size = n + 1
   const m = new Float64Array(size * size)
   for (let i = 0; i < n - 1; i++) m[i * size + i + 1] = 1
-  for (let j = 0; j < n; j++) m[(n - 1) * size + j] = -a[n - j]
+  for (let j = 0; j < n; j++) m[(n - 1) * size + j] = -a[n - j]!
   m[(n - 1) * size + n] = 1
   const c = new Float64Array(n)
-  for (let j = 0; j < n; j++) c[j] = bb[n - j] - a[n - j] * bb[0]
-  return { n, m, c, dTerm: bb[0] }
+  for (let j = 0; j < n; j++) c[j] = bb[n - j]! - a[n - j]! * bb[0]!
+  return { n, m, c, dTerm: bb[0]! }
 }
 
 interface Simulation {
@@ -186,7 +186,7 @@ interface Simulation {
 function simulate(model: CanonicalForm, h: number, count: number, options: DeadlineOption, started: number): Simulation {
   const size = model.n + 1
   const chain = exponentialChain(model.m, size, h)
-  const step = chain[0]
+  const step = chain[0]!
   const states = new Float64Array((count + 1) * size)
   const y = new Float64Array(count + 1)
   states[model.n] = 1
@@ -197,7 +197,7 @@ function simulate(model: CanonicalForm, h: number, count: number, options: Deadl
     const to = k * size
     for (let i = 0; i < size; i++) {
       let sum = 0
-      for (let j = 0; j < size; j++) sum += step[i * size + j] * states[from + j]
+      for (let j = 0; j < size; j++) sum += step[i * size + j]! * states[from + j]!
       states[to + i] = sum
     }
     y[k] = output(model, states, to)
@@ -207,7 +207,7 @@ function simulate(model: CanonicalForm, h: number, count: number, options: Deadl
 
 function output(model: CanonicalForm, w: Float64Array, offset: number): number {
   let sum = model.dTerm
-  for (let j = 0; j < model.n; j++) sum += model.c[j] * w[offset + j]
+  for (let j = 0; j < model.n; j++) sum += model.c[j]! * w[offset + j]!
   return sum
 }
 
@@ -217,15 +217,15 @@ function slope(model: CanonicalForm, w: Float64Array, offset: number): number {
   let sum = 0
   for (let j = 0; j < model.n; j++) {
     let dx = 0
-    for (let k = 0; k < size; k++) dx += model.m[j * size + k] * w[offset + k]
-    sum += model.c[j] * dx
+    for (let k = 0; k < size; k++) dx += model.m[j * size + k]! * w[offset + k]!
+    sum += model.c[j]! * dx
   }
   return sum
 }
 
 function half(sim: Simulation, model: CanonicalForm, j: number): Float64Array {
   if (!sim.halves) sim.halves = exponentialHalves(model.m, model.n + 1, sim.h, REFINE_HALVINGS)
-  return sim.halves[j]
+  return sim.halves[j]!
 }
 
 /**
@@ -246,7 +246,7 @@ function bisect(sim: Simulation, model: CanonicalForm, k: number, f: (w: Float64
     const e = half(sim, model, j)
     for (let i = 0; i < size; i++) {
       let sum = 0
-      for (let q = 0; q < size; q++) sum += e[i * size + q] * left[q]
+      for (let q = 0; q < size; q++) sum += e[i * size + q]! * left[q]!
       mid[i] = sum
     }
     const fMid = f(mid)
@@ -271,10 +271,10 @@ function measure(sim: Simulation, model: CanonicalForm, finalValue: number, tSca
   const zSlope = (w: Float64Array, offset = 0) => slope(model, w, offset) / finalValue
   const count = sim.count
   const zs = new Float64Array(count + 1)
-  for (let k = 0; k <= count; k++) zs[k] = sim.y[k] / finalValue
+  for (let k = 0; k <= count; k++) zs[k] = sim.y[k]! / finalValue
   // Slopes only where asked: the peak's neighbourhood and the tail scanned for settling.
   const slopes = new Float64Array(count + 1).fill(Number.NaN)
-  const slopeAt = (k: number) => (Number.isNaN(slopes[k]) ? (slopes[k] = zSlope(sim.states, k * size)) : slopes[k])
+  const slopeAt = (k: number): number => (Number.isNaN(slopes[k]) ? (slopes[k] = zSlope(sim.states, k * size)) : slopes[k]!)
   checkDeadline(options, 'the step response', started)
 
   /** The extremum inside interval k when the slope changes sign there, else null. */
@@ -286,8 +286,8 @@ function measure(sim: Simulation, model: CanonicalForm, finalValue: number, tSca
 
   // Peak: the largest sample, then the extremum in either neighbouring interval.
   let peakIndex = 0
-  for (let k = 1; k <= count; k++) if (zs[k] > zs[peakIndex]) peakIndex = k
-  let peak: { tau: number; value: number } = { tau: peakIndex * sim.h, value: zs[peakIndex] }
+  for (let k = 1; k <= count; k++) if (zs[k]! > zs[peakIndex]!) peakIndex = k
+  let peak: { tau: number; value: number } = { tau: peakIndex * sim.h, value: zs[peakIndex]! }
   for (const k of [peakIndex - 1, peakIndex]) {
     if (k < 0) continue
     const e = extremumIn(k)
@@ -302,9 +302,9 @@ function measure(sim: Simulation, model: CanonicalForm, finalValue: number, tSca
 
   // Rise: first crossings of 10 % and 90 %.
   const firstCrossing = (level: number): number | null => {
-    if (zs[0] >= level) return 0
+    if (zs[0]! >= level) return 0
     for (let k = 0; k < count; k++) {
-      if (zs[k + 1] >= level) return bisect(sim, model, k, (w) => z(w) - level).tau * tScale
+      if (zs[k + 1]! >= level) return bisect(sim, model, k, (w) => z(w) - level).tau * tScale
     }
     return null
   }
@@ -318,19 +318,19 @@ function measure(sim: Simulation, model: CanonicalForm, finalValue: number, tSca
   const bandExit = (w: Float64Array) => Math.abs(z(w) - 1) - SETTLING_BAND
   let settling: number | null = 0
   for (let k = count - 1; k >= 0; k--) {
-    if (outside(zs[k + 1])) {
+    if (outside(zs[k + 1]!)) {
       settling = null
       warnings.push('The step response has not settled within ±2 % by the end of the horizon.')
       break
     }
-    if (outside(zs[k])) {
+    if (outside(zs[k]!)) {
       settling = bisect(sim, model, k, bandExit).tau * tScale
       break
     }
     // An extremum between samples can leave the band only if an end is within
     // h·(|z'_k| + |z'_{k+1}|) of the band's edge (with 20 samples a period the
     // curve strays from its samples far less than that), so only then is it refined.
-    const room = SETTLING_BAND - Math.max(Math.abs(zs[k] - 1), Math.abs(zs[k + 1] - 1))
+    const room = SETTLING_BAND - Math.max(Math.abs(zs[k]! - 1), Math.abs(zs[k + 1]! - 1))
     if (room > sim.h * (Math.abs(slopeAt(k)) + Math.abs(slopeAt(k + 1)))) continue
     const e = extremumIn(k)
     if (e && outside(e.value)) {
@@ -354,10 +354,10 @@ function refineAfter(model: CanonicalForm, start: Float64Array, tauExtremum: num
   const w = new Float64Array(size)
   for (let j = 0; j < 60 && hi - lo > (tauEnd - tauExtremum) * 1e-12; j++) {
     const mid = (lo + hi) / 2
-    const e = exponentialChain(model.m, size, mid - tauExtremum)[0]
+    const e = exponentialChain(model.m, size, mid - tauExtremum)[0]!
     for (let i = 0; i < size; i++) {
       let sum = 0
-      for (let q = 0; q < size; q++) sum += e[i * size + q] * start[q]
+      for (let q = 0; q < size; q++) sum += e[i * size + q]! * start[q]!
       w[i] = sum
     }
     if (f(w) > 0) lo = mid

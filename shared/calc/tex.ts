@@ -14,7 +14,7 @@ export type VariableTex = readonly string[]
 
 /** `K_c` → `K_{c}`; a multi-letter base is set upright-italic as one name so it does not read as a product. */
 export function defaultSymbolTex(symbol: string): string {
-  const [base, ...rest] = symbol.split('_')
+  const [base = '', ...rest] = symbol.split('_')
   const baseTex = base.length === 1 ? base : `\\mathit{${base}}`
   if (rest.length === 0) return baseTex
   const subscript = rest.join('_')
@@ -78,14 +78,14 @@ function compareTerms(a: Term, b: Term): number {
   const da = a.exponents.reduce((s, e) => s + e, 0)
   const db = b.exponents.reduce((s, e) => s + e, 0)
   if (da !== db) return db - da
-  for (let i = 0; i < a.exponents.length; i++) if (a.exponents[i] !== b.exponents[i]) return b.exponents[i] - a.exponents[i]
+  for (let i = 0; i < a.exponents.length; i++) if (a.exponents[i] !== b.exponents[i]) return b.exponents[i]! - a.exponents[i]!
   return 0
 }
 
 function monomialTex(exponents: readonly number[], names: VariableTex): string {
   const parts: string[] = []
   exponents.forEach((e, i) => {
-    if (e === 1) parts.push(names[i])
+    if (e === 1) parts.push(names[i]!)
     else if (e > 1) parts.push(`{${names[i]}}^{${e}}`)
   })
   return parts.join(' ')
@@ -122,7 +122,7 @@ export function polynomialTex(p: Polynomial, names: VariableTex): string {
     throw new SizeLimitError(`typesets to about ${formatCount(estimate)} characters of TeX, above the limit of ${formatCount(MAX_POLYNOMIAL_TEX_CHARS)}`)
   const parts: Array<[boolean, string]> = []
   for (let k = p.length - 1; k >= 0; k--) {
-    const c = p[k]
+    const c = p[k]!
     if (c.isZero) continue
     if (c.terms.size === 1 || k === 0) parts.push(...termParts(c, names, sPowerTex(k)))
     else parts.push([false, `\\left(${multinomialTex(c, names)}\\right) ${sPowerTex(k)}`])

@@ -49,7 +49,7 @@ const LISTED_CORNERS = 256
 export function toleranceCorners(loop: LoopFile, parameters: LoopParameters, model: CornerModel, deadline: Deadline): ToleranceCorners {
   const banded = parameters.symbols
     .map((symbol, index) => {
-      const p = loop.parameters[symbol]
+      const p = loop.parameters[symbol]!
       return { symbol, index, min: p.min ?? p.value, max: p.max ?? p.value }
     })
     .filter((b) => b.min !== b.max)
@@ -67,7 +67,7 @@ export function toleranceCorners(loop: LoopFile, parameters: LoopParameters, mod
     const cornerValues: Record<string, number> = {}
     banded.forEach((b, bit) => {
       values[b.index] = mask & (1 << bit) ? b.max : b.min
-      cornerValues[b.symbol] = values[b.index]
+      cornerValues[b.symbol] = values[b.index]!
     })
     const ascendingDen = model.closedDen(values)
     const ascendingNum = model.closedNum(values)
