@@ -34,7 +34,13 @@ CREATE TABLE "sheets" (
 	"title" text NOT NULL,
 	"loop_tag" text NOT NULL,
 	"created_by" integer NOT NULL,
-	"created_at" timestamp with time zone DEFAULT now() NOT NULL
+	"created_at" timestamp with time zone DEFAULT now() NOT NULL,
+	"current_revision_index" integer DEFAULT 0 NOT NULL,
+	"current_status" text DEFAULT 'draft' NOT NULL,
+	"current_revision_label" text,
+	"current_prepared_by" integer NOT NULL,
+	"current_edited_by" integer NOT NULL,
+	"current_edited_at" timestamp with time zone DEFAULT now() NOT NULL
 );
 --> statement-breakpoint
 ALTER TABLE "packages" ADD CONSTRAINT "packages_project_id_projects_id_fk" FOREIGN KEY ("project_id") REFERENCES "public"."projects"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
@@ -45,13 +51,14 @@ ALTER TABLE "sheet_revisions" ADD CONSTRAINT "sheet_revisions_edited_by_people_i
 ALTER TABLE "sheets" ADD CONSTRAINT "sheets_project_id_projects_id_fk" FOREIGN KEY ("project_id") REFERENCES "public"."projects"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "sheets" ADD CONSTRAINT "sheets_package_id_packages_id_fk" FOREIGN KEY ("package_id") REFERENCES "public"."packages"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "sheets" ADD CONSTRAINT "sheets_created_by_people_id_fk" FOREIGN KEY ("created_by") REFERENCES "public"."people"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
+ALTER TABLE "sheets" ADD CONSTRAINT "sheets_current_prepared_by_people_id_fk" FOREIGN KEY ("current_prepared_by") REFERENCES "public"."people"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
+ALTER TABLE "sheets" ADD CONSTRAINT "sheets_current_edited_by_people_id_fk" FOREIGN KEY ("current_edited_by") REFERENCES "public"."people"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 CREATE UNIQUE INDEX "packages_project_number" ON "packages" USING btree ("project_id","number");--> statement-breakpoint
 CREATE UNIQUE INDEX "sheet_revisions_sheet_index" ON "sheet_revisions" USING btree ("sheet_id","revision_index");--> statement-breakpoint
-CREATE INDEX "sheet_revisions_status" ON "sheet_revisions" USING btree ("status");--> statement-breakpoint
-CREATE INDEX "sheet_revisions_edited_at" ON "sheet_revisions" USING btree ("edited_at");--> statement-breakpoint
-CREATE INDEX "sheet_revisions_prepared_by" ON "sheet_revisions" USING btree ("prepared_by");--> statement-breakpoint
 CREATE UNIQUE INDEX "sheets_project_number" ON "sheets" USING btree ("project_id","number");--> statement-breakpoint
 CREATE INDEX "sheets_project_number_order" ON "sheets" USING btree ("project_id",length("number"),"number");--> statement-breakpoint
 CREATE INDEX "sheets_project_title" ON "sheets" USING btree ("project_id","title");--> statement-breakpoint
-CREATE INDEX "sheets_project_loop_tag" ON "sheets" USING btree ("project_id","loop_tag");--> statement-breakpoint
-CREATE INDEX "sheets_package" ON "sheets" USING btree ("package_id");
+CREATE INDEX "sheets_project_status" ON "sheets" USING btree ("project_id","current_status");--> statement-breakpoint
+CREATE INDEX "sheets_project_edited_at" ON "sheets" USING btree ("project_id","current_edited_at");--> statement-breakpoint
+CREATE INDEX "sheets_package" ON "sheets" USING btree ("package_id");--> statement-breakpoint
+CREATE INDEX "sheets_prepared_by" ON "sheets" USING btree ("current_prepared_by");

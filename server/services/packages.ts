@@ -13,7 +13,7 @@ const packageIdColumn = sql.raw('"packages"."id"')
 
 function sheetCount(clientView: boolean) {
   const visible = clientView
-    ? sql` and (select r.status from sheet_revisions r where r.sheet_id = s.id order by r.revision_index desc limit 1) in (${sql.join(
+    ? sql` and s.current_status in (${sql.join(
         clientVisibleStatuses.map((status) => sql`${status}`),
         sql`, `,
       )})`

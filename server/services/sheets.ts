@@ -100,22 +100,19 @@ function badField(field: string, message: string): never {
 
 const current = alias(sheetRevisions, 'current')
 const editor = alias(people, 'editor')
-// Written out in full: inside a subquery drizzle may leave a column unqualified, which would name the wrong table.
-const sheetIdColumn = sql.raw('"sheets"."id"')
-/** The current revision is the one with the highest index. */
-const isCurrent = sql`${current.revisionIndex} = (select max(r.revision_index) from ${sheetRevisions} r where r.sheet_id = ${sheetIdColumn})`
 
+// The list reads the current revision's copy on `sheets` (sheets.current_*, kept by a trigger: schema.ts).
 const rowColumns = {
   id: sheets.id,
   number: sheets.number,
   title: sheets.title,
   loopTag: sheets.loopTag,
-  status: current.status,
-  revisionIndex: current.revisionIndex,
-  revisionLabel: current.label,
+  status: sheets.currentStatus,
+  revisionIndex: sheets.currentRevisionIndex,
+  revisionLabel: sheets.currentRevisionLabel,
   packageId: sheets.packageId,
   packageNumber: packages.number,
-  updatedAt: current.editedAt,
+  updatedAt: sheets.currentEditedAt,
   updatedByName: editor.name,
 }
 
@@ -141,9 +138,9 @@ function orderOf(query: Pick<SheetsQuery, 'sort' | 'dir'>): SQL[] {
     case 'title':
       return [direction(sheets.title), ...byNumber]
     case 'status':
-      return [direction(current.status), ...byNumber]
+      return [direction(sheets.currentStatus), ...byNumber]
     case 'updatedAt':
-      return [direction(current.editedAt), direction(sheets.id)]
+      return [direction(sheets.currentEditedAt), direction(sheets.id)]
     default:
       return byNumber
   }
@@ -159,27 +156,22 @@ function searchOf(q: string): SQL | undefined {
 export async function listProjectSheets(db: Database, projectId: number, query: SheetsQuery, viewer: Viewer): Promise<Page<SheetRow> | Refused> {
   const access = await projectAccess(db, projectId, viewer)
   if (!access.read) return refused('You are not a member of this project', { projectId })
-  const filters = [eq(sheets.projectId, projectId), isCurrent, searchOf(query.q)]
-  if (query.status) filters.push(eq(current.status, query.status))
+  const filters = [eq(sheets.projectId, projectId), searchOf(query.q)]
+  if (query.status) filters.push(eq(sheets.currentStatus, query.status))
   if (query.packageId) filters.push(eq(sheets.packageId, query.packageId))
-  if (!access.drafts) filters.push(inArray(current.status, [...clientVisibleStatuses]))
+  if (!access.drafts) filters.push(inArray(sheets.currentStatus, [...clientVisibleStatuses]))
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db
       .select(rowColumns)
       .from(sheets)
-      .innerJoin(current, eq(current.sheetId, sheets.id))
-      .innerJoin(editor, eq(editor.id, current.editedBy))
+      .innerJoin(editor, eq(editor.id, sheets.currentEditedBy))
       .leftJoin(packages, eq(packages.id, sheets.packageId))
       .where(where)
       .orderBy(...orderOf(query))
       .limit(query.pageSize)
       .offset((query.page - 1) * query.pageSize),
-    db
-      .select({ total: sql<number>`count(*)::int` })
-      .from(sheets)
-      .innerJoin(current, eq(current.sheetId, sheets.id))
-      .where(where),
+    db.select({ total: sql<number>`count(*)::int` }).from(sheets).where(where),
   ])
   return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
 }
@@ -190,30 +182,24 @@ export async function listProjectSheets(db: Database, projectId: number, query: 
  */
 export async function listMySheets(db: Database, query: MySheetsQuery, viewer: Viewer): Promise<Page<MySheetRow>> {
   const filters = [
-    eq(current.preparedBy, viewer.id),
-    isCurrent,
+    eq(sheets.currentPreparedBy, viewer.id),
     searchOf(query.q),
     sql`exists (select 1 from ${projectMembers} m where m.project_id = "sheets"."project_id" and m.person_id = ${viewer.id} and m.role = 'engineer')`,
   ]
-  if (query.mine === 'drafts') filters.push(inArray(current.status, [...editableStatuses]))
+  if (query.mine === 'drafts') filters.push(inArray(sheets.currentStatus, [...editableStatuses]))
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db
       .select({ ...rowColumns, projectId: projects.id, projectNumber: projects.number })
       .from(sheets)
-      .innerJoin(current, eq(current.sheetId, sheets.id))
-      .innerJoin(editor, eq(editor.id, current.editedBy))
+      .innerJoin(editor, eq(editor.id, sheets.currentEditedBy))
       .innerJoin(projects, eq(projects.id, sheets.projectId))
       .leftJoin(packages, eq(packages.id, sheets.packageId))
       .where(where)
       .orderBy(...orderOf(query))
       .limit(query.pageSize)
       .offset((query.page - 1) * query.pageSize),
-    db
-      .select({ total: sql<number>`count(*)::int` })
-      .from(sheets)
-      .innerJoin(current, eq(current.sheetId, sheets.id))
-      .where(where),
+    db.select({ total: sql<number>`count(*)::int` }).from(sheets).where(where),
   ])
   return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
 }
@@ -257,11 +243,11 @@ async function loadSheet(db: Pick<Database, 'select'>, sheetId: number) {
     .from(sheets)
     .innerJoin(projects, eq(projects.id, sheets.projectId))
     .innerJoin(organisations, eq(organisations.id, projects.organisationId))
-    .innerJoin(current, eq(current.sheetId, sheets.id))
+    .innerJoin(current, and(eq(current.sheetId, sheets.id), eq(current.revisionIndex, sheets.currentRevisionIndex)))
     .innerJoin(preparer, eq(preparer.id, current.preparedBy))
     .innerJoin(editor, eq(editor.id, current.editedBy))
     .leftJoin(packages, eq(packages.id, sheets.packageId))
-    .where(and(eq(sheets.id, sheetId), isCurrent))
+    .where(eq(sheets.id, sheetId))
   return row ?? null
 }
 type LoadedSheet = NonNullable<Awaited<ReturnType<typeof loadSheet>>>
@@ -417,7 +403,17 @@ export async function createSheet(
     const number = await nextSheetNumber(tx, project!, firm.sheetNumbering)
     const [sheet] = await tx
       .insert(sheets)
-      .values({ projectId, packageId: body.packageId ?? null, number, title: body.title, loopTag: body.loopTag, createdBy: viewer.id })
+      .values({
+        projectId,
+        packageId: body.packageId ?? null,
+        number,
+        title: body.title,
+        loopTag: body.loopTag,
+        createdBy: viewer.id,
+        // The trigger on sheet_revisions copies the revision's own values in when it is inserted below.
+        currentPreparedBy: viewer.id,
+        currentEditedBy: viewer.id,
+      })
       .returning({ id: sheets.id })
     await tx.insert(sheetRevisions).values({
       sheetId: sheet!.id,
