@@ -1,7 +1,7 @@
 // Sheets over HTTP: creation (blank, from a template, a copy) numbered by the firm's pattern, the list's search,
 // filters, sorts and pages, the detail, and saves: recomputed by the server's engine, stale versions refused with
 // the stored revision, and of two racing saves exactly one kept.
-import { beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { database, newPerson, signedIn, unique, type Client } from './support/client'
 import { newSheet, readTemplate, setStatus, theCast, type Cast } from './support/sheets'
 import { loopFileOf } from '../../shared/schemas/sheet'
@@ -309,5 +309,49 @@ describe('saving a sheet', () => {
     expect((await former.get(`/api/sheets/${id}`)).status).toBe(403)
     expect((await former.patch(`/api/sheets/${id}`, { version: 1, document: detail.revision.document })).status).toBe(403)
     expect((await former.get('/api/sheets')).body.total).toBe(0)
+  })
+})
+
+describe('the current revision’s copy on sheets and the list’s indexes', () => {
+  it('follows the highest revision and ignores writes to an older one', async () => {
+    const { id } = await newSheet(engineer, projectId, { title: 'Two revisions', loopTag: 'PIC-1-90' })
+    const sql = database()
+    await sql`insert into sheet_revisions (sheet_id, revision_index, status, document, engine_version, prepared_by, edited_by, label)
+      select sheet_id, 1, 'draft', document, engine_version, ${cast.ids.secondEngineer}, ${cast.ids.secondEngineer}, null from sheet_revisions where sheet_id = ${id}`
+    await sql`update sheet_revisions set status = 'issued', label = 'A' where sheet_id = ${id} and revision_index = 0`
+    const [copy] = await sql`select current_revision_index, current_status, current_revision_label, current_prepared_by from sheets where id = ${id}`
+    expect(copy).toEqual({ current_revision_index: 1, current_status: 'draft', current_revision_label: null, current_prepared_by: cast.ids.secondEngineer })
+    const row = (await engineer.get(`/api/projects/${projectId}/sheets?q=PIC-1-90`)).body.items[0]
+    expect(row).toMatchObject({ id, revisionIndex: 1, status: 'draft' })
+    expect((await engineer.get(`/api/sheets/${id}`)).body.revision).toMatchObject({ index: 1, preparedBy: { id: cast.ids.secondEngineer } })
+  })
+
+  it('serves each sort of the page query from an index of sheets, never a sort of the revisions', async () => {
+    // The service's own SQL, captured from drizzle; the planner told not to scan, so the plan shows what the
+    // indexes can serve (npm run bench measures them with 10,000 sheets, where the planner picks them itself).
+    const { default: postgres } = await import('postgres')
+    const { drizzle } = await import('drizzle-orm/postgres-js')
+    const schema = await import('../../server/db/schema')
+    const { listProjectSheets } = await import('../../server/services/sheets')
+    const { sheetsQuerySchema } = await import('../../shared/schemas/sheets')
+    const client = postgres(inject('databaseUrl'), { max: 1, onnotice: () => {} })
+    try {
+      const expected = { number: 'sheets_project_number_order', title: 'sheets_project_title', status: 'sheets_project_status', updatedAt: 'sheets_project_edited_at' }
+      for (const [sort, index] of Object.entries(expected)) {
+        const captured: Array<{ query: string; params: unknown[] }> = []
+        const db = drizzle(client, { schema, logger: { logQuery: (query, params) => captured.push({ query, params }) } })
+        await listProjectSheets(db as never, projectId, sheetsQuerySchema.parse({ sort }), { id: cast.ids.engineer, roles: ['engineer'] })
+        const page = captured.find((c) => /order by/i.test(c.query) && /limit/i.test(c.query))!
+        expect(page.query).not.toMatch(/sheet_revisions/)
+        const plan = await client.begin(async (tx) => {
+          await tx`set local enable_seqscan = off`
+          await tx`set local enable_sort = off`
+          return tx.unsafe(`explain ${page.query}`, page.params as never[])
+        })
+        expect(plan.map((line) => line['QUERY PLAN']).join('\n'), sort).toContain(index)
+      }
+    } finally {
+      await client.end()
+    }
   })
 })
