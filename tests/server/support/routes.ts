@@ -141,6 +141,25 @@ export class Kit {
     return this.once('sign-in person', () => newPerson(this.admin, ['engineer']))
   }
 
+  /** The demo engineer's session, for samples only an engineer member can make. */
+  engineer(): Promise<Client> {
+    return this.once('engineer session', () => signedIn(demo.engineer))
+  }
+  /** A draft sheet of NWD-214 (blank document), made once by the demo engineer. */
+  sampleSheet(): Promise<{ id: number; document: unknown }> {
+    return this.once('sheet', async () => {
+      const engineer = await this.engineer()
+      const created = await engineer.post(`/api/projects/${await this.demoProjectId()}/sheets`, { title: 'Route table sample sheet', loopTag: 'TIC-214-99' })
+      if (created.status !== 201) throw new Error(`creating a sample sheet answered ${created.status}`)
+      const detail = await engineer.get(`/api/sheets/${created.body.id}`)
+      return { id: created.body.id as number, document: detail.body.revision.document }
+    })
+  }
+  /** The sample sheet's version now (a valid save bumps it). */
+  async sampleSheetVersion(): Promise<number> {
+    const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
+    return row!.version as number
+  }
   firmSettings(): Promise<unknown> {
     return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
   }
@@ -283,6 +302,57 @@ export const routes: RouteRow[] = [
         { ...loop, title: 'x'.repeat(300_000) },
       ]
     },
+  },
+  // Sheets and packages: every demo caller is a member of NWD-214. Other projects, drafts against issued
+  // revisions, and every role against them are in tests/server/sheets-access.test.ts.
+  {
+    method: 'GET',
+    route: '/api/projects/[id]/sheets',
+    expect: signedInOnly(200),
+    list: true,
+    prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/projects/[id]/sheets',
+    expect: onlyRoles(201, 'engineer'),
+    prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table sheet '), loopTag: 'TIC-214-98' } }),
+  },
+  { method: 'GET', route: '/api/sheets', expect: signedInOnly(200), list: true, prepare: async () => ({}) },
+  {
+    method: 'GET',
+    route: '/api/sheets/[id]',
+    // A draft: a client never sees one (product.md).
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
+  },
+  {
+    method: 'PATCH',
+    route: '/api/sheets/[id]',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => {
+      const sheet = await kit.sampleSheet()
+      return { params: { id: String(sheet.id) }, body: { version: await kit.sampleSheetVersion(), document: sheet.document } }
+    },
+    // Any finite gain or time constant is a loop the engine computes, and a null return path is unity feedback.
+    accepts: {
+      'document.loop.parameters.K.value': ['1e10', '1e20', '-1'],
+      'document.loop.parameters.T.value': ['1e10', '1e20', '-1'],
+      'document.loop.structure.feedback.sign': ['-1'],
+      'document.loop.structure.feedback.return': ['null'],
+    },
+  },
+  {
+    method: 'GET',
+    route: '/api/projects/[id]/packages',
+    expect: signedInOnly(200),
+    prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/projects/[id]/packages',
+    expect: onlyRoles(201, 'engineer'),
+    prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
   },
   { method: 'GET', route: '/api/templates', expect: signedInOnly(200), prepare: async () => ({}) },
   {
