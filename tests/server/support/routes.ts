@@ -229,6 +229,12 @@ export const routes: RouteRow[] = [
       body: { name: unique('Renamed '), roles: ['engineer', 'checker'], active: true },
     }),
   },
+  {
+    method: 'POST',
+    route: '/api/people/[id]/sessions/revoke',
+    expect: onlyRoles(200, 'admin'),
+    prepare: async (kit) => ({ params: { id: String(await kit.newInvitedPerson()) } }),
+  },
   { method: 'GET', route: '/api/organisations', expect: onlyRoles(200, 'admin'), list: true, prepare: async () => ({}) },
   {
     method: 'POST',
