@@ -296,7 +296,8 @@ export const routes: RouteRow[] = [
   {
     method: 'POST',
     route: '/api/calculate',
-    expect: signedInOnly(200),
+    // Closed to clients, who have no use for the calculator (product.md; issue 6, finding 4).
+    expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
     prepare: async () => ({ body: structuredClone(sampleLoop) }),
     // Any finite gain is a loop the engine computes: these numbers are values, not bad input, there.
     accepts: { 'parameters.K.value': ['1e10', '1e20', '-1'] },
@@ -360,11 +361,11 @@ export const routes: RouteRow[] = [
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
   },
-  { method: 'GET', route: '/api/templates', expect: signedInOnly(200), prepare: async () => ({}) },
+  { method: 'GET', route: '/api/templates', expect: onlyRoles(200, 'engineer', 'checker', 'admin'), prepare: async () => ({}) },
   {
     method: 'GET',
     route: '/api/templates/[name]',
-    expect: signedInOnly(200),
+    expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
     prepare: async () => ({ params: { name: 'pi-pressure-loop' } }),
   },
 ]
