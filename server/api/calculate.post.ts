@@ -14,6 +14,6 @@ export default defineEventHandler(async (event) => {
     personId: user.id,
     text,
     signal: withdrawn.signal,
-    retryAfter: (seconds) => setResponseHeader(event, 'retry-after', String(seconds)),
+    retryAfter: (seconds) => setResponseHeader(event, 'retry-after', seconds),
   })
 })
