@@ -2,6 +2,7 @@
 // text, a criterion, or one row of a table or list). Where only one side changed a field since the editor last
 // loaded or saved, that side is chosen to begin with; the engineer confirms or changes every choice, and the
 // merged form keeps each chosen value whole, so no character of either side is lost without a choice.
+import { criterionNames } from './criterionNames'
 import { criterionOrder, type SheetForm } from './sheetForm'
 import { structureText } from './structureTree'
 
