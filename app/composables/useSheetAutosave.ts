@@ -1,6 +1,6 @@
 import type { SheetDetail } from '#shared/schemas/sheets'
 import { conflictUnits, mergeForms, type ConflictUnit } from '~/utils/sheetConflict'
-import { formOfDocument, formPathOfEngineField, type FormReading, type SheetForm } from '~/utils/sheetForm'
+import { formOfDocument, formPathOf, loopPathOf, type FormReading, type SheetForm } from '~/utils/sheetForm'
 
 export type SaveState = 'saved' | 'saving' | 'unsaved' | 'offline' | 'refused' | 'conflict' | 'read-only'
 
@@ -22,6 +22,21 @@ interface LocalCopy {
 const SAVE_AFTER_MS = 800
 const RETRY_FIRST_MS = 1000
 const RETRY_MOST_MS = 30_000
+
+/** The form's field of a path the server names: `document.scope`, `loop.blocks.P.den` (the engine's), `title`. */
+function formPathOfServerField(form: SheetForm, field: string): string | null {
+  const [head, ...rest] = field.split('.')
+  if (head === 'document') return rest[0] === 'loop' ? loopPathOf(form, rest.slice(1)) : formPathOf(form, rest)
+  if (head === 'loop') return loopPathOf(form, rest)
+  return head === 'title' || head === 'loopTag' ? head : null
+}
+
+/** The engine's message starts with its field, which the field itself already shows. */
+function withoutField(message: string, field: string | null): string {
+  const loopField = field?.replace(/^(document\.)?loop\./, '')
+  for (const prefix of [field, loopField]) if (prefix && message.startsWith(`${prefix}: `)) return message.slice(prefix.length + 2)
+  return message
+}
 
 const formFromDetail = (detail: SheetDetail) => formOfDocument(detail.revision.document, detail.title, detail.loopTag)
 const snapshot = (form: SheetForm) => JSON.stringify(form)
@@ -126,9 +141,8 @@ export function useSheetAutosave(options: {
       } else if (status === 400 || status === 422) {
         offline.value = false
         const field = data?.data?.field ?? null
-        const path = field ? formPathOfEngineField(form, field.replace(/^document\.loop\./, '').replace(/^loop\./, '')) : null
         const raw = data?.data?.message ?? data?.message ?? readApiFailure(failure).message
-        problem.value = { path, message: field && raw.startsWith(`${field}: `) ? raw.slice(field.length + 2) : raw }
+        problem.value = { path: field ? formPathOfServerField(form, field) : null, message: withoutField(raw, field) }
       } else if (status === null || status >= 500 || status === 408 || status === 429) {
         retryLater()
       } else {
