@@ -3,7 +3,7 @@
 // loaded or saved, that side is chosen to begin with; the engineer confirms or changes every choice, and the
 // merged form keeps each chosen value whole, so no character of either side is lost without a choice.
 import { criterionNames } from './criterionNames'
-import { criterionOrder, type SheetForm } from './sheetForm'
+import { criterionOrder, plainCopy, type SheetForm } from './sheetForm'
 import { structureText } from './structureTree'
 
 export interface ConflictUnit {
@@ -73,8 +73,8 @@ export function conflictUnits(mine: SheetForm, stored: SheetForm, base: SheetFor
 
 /** The engineer's form with the units chosen from the stored side taken from it. */
 export function mergeForms(mine: SheetForm, stored: SheetForm, takeStored: ReadonlySet<string>): SheetForm {
-  const merged = structuredClone(mine)
-  const copy = <T>(value: T): T => structuredClone(value)
+  const merged = plainCopy(mine)
+  const copy = <T>(value: T): T => (value === undefined ? value : plainCopy(value))
   for (const { key } of scalars) if (takeStored.has(key)) (merged as unknown as Record<string, unknown>)[key] = copy(stored[key])
   for (const name of criterionOrder) if (takeStored.has(`criteria.${name}`)) merged.criteria[name] = stored.criteria[name]
   for (const { key } of lists) {

@@ -2,7 +2,6 @@
 // number ("1.", "-") is kept exactly as typed and a conflict compares what the engineer sees. One way back to the
 // document, `documentOfForm`, which the autosave and the live engine both use; issues of the shared schema are
 // mapped back to the form's field paths so each message shows at its field.
-import { toRaw } from 'vue'
 import type { StructureNode } from '#shared/schemas/loop'
 import { blockRoles, criterionBounds, type CriterionName } from '#shared/schemas/loop'
 import { sheetDocumentSchema, type SheetDocument, type SheetDocumentInput } from '#shared/schemas/sheet'
@@ -55,6 +54,9 @@ export interface SheetForm {
 
 export const criterionOrder = Object.keys(criterionBounds) as CriterionName[]
 
+/** A plain deep copy of form data: the form's values are reactive proxies, which structuredClone refuses. */
+export const plainCopy = <T>(value: T): T => JSON.parse(JSON.stringify(value)) as T
+
 const text = (value: number | undefined) => (value === undefined ? '' : String(value))
 
 export function formOfDocument(document: SheetDocumentInput, title: string, loopTag: string): SheetForm {
@@ -82,7 +84,7 @@ export function formOfDocument(document: SheetDocumentInput, title: string, loop
       const b = blocks[id]!
       return { id, role: b.role, label: b.label ?? '', num: b.num, den: b.den ?? '1', delay: b.delay ?? '' }
     }),
-    structure: structuredClone(toRaw(loop.structure)) as StructureNode,
+    structure: plainCopy(loop.structure) as StructureNode,
     padeOrder: text(loop.delay_approximation?.order ?? 2),
     rangeParameter: range?.parameter ?? '',
     rangeLow: text(range?.search[0]),
@@ -159,7 +161,7 @@ export function documentOfForm(form: SheetForm): FormReading {
       title: form.title.trim() || undefined,
       parameters,
       blocks,
-      structure: toRaw(form.structure),
+      structure: plainCopy(form.structure),
       delay_approximation: { method: 'pade', order: pade.value ?? 2 },
       analysis,
       criteria,

@@ -63,7 +63,13 @@ async function blockIndex(page: Page, id: string) {
   return page.$$eval('[data-testid=block-list] [data-block]', (rows, wanted) => rows.findIndex((row) => row.getAttribute('data-block') === wanted), id)
 }
 async function waitForState(page: Page, state: string) {
-  await page.waitForSelector(`[data-testid=save-state][data-state="${state}"]`, { timeout: 20_000 })
+  try {
+    await page.waitForSelector(`[data-testid=save-state][data-state="${state}"]`, { timeout: 20_000 })
+  } catch {
+    const shown = await page.$eval('[data-testid=save-state]', (el) => `${el.getAttribute('data-state')}: ${(el.parentElement as HTMLElement).innerText}`).catch(() => 'no save state shown')
+    await screenshot(page, `failed-${state}`)
+    throw new Error(`the save state did not become "${state}"; it shows ${shown}`)
+  }
 }
 async function verdict(page: Page, words: string) {
   await page.waitForFunction((w) => document.querySelector('[data-testid=result][data-stale=false] [data-testid=stability-verdict]')?.textContent?.trim() === w, { timeout: 15_000 }, words)
@@ -162,13 +168,16 @@ describe('the sheet editor', () => {
 
     // The plant P gets a loop of its own (a cascade's inner loop), and the actuator A moves inside it.
     await page.click('[data-path="forward.2"] > div > [data-action=close-loop]')
-    await page.waitForFunction(() => document.querySelectorAll('[data-testid=loop-diagram] [data-shape=junction]').length === 2)
+    await page.waitForFunction(() => window.document.querySelectorAll('[data-testid=loop-diagram] [data-shape=junction]').length === 2).catch(async (error) => {
+      await screenshot(page, 'failed-cascade')
+      throw error
+    })
     const cascade = closeLoopAround(document.loop.structure, ['forward', 2])
     expect(await page.$eval('[data-testid=loop-diagram]', (el) => el.getAttribute('data-structure'))).toBe('loop(C · A · loop(P; return unity; negative); return S; negative)')
 
     const witness = await api<any>(cookie, '/api/calculate', { method: 'POST', body: { ...loopFileOf(document), structure: cascade } })
     expect(witness.status).toBe(200)
-    await page.waitForFunction((tex) => (document.querySelector('[data-testid=result][data-stale=false] [data-testid=closed-loop-symbolic] annotation')?.textContent ?? '').includes(tex), { timeout: 15_000 }, witness.body.closed_loop.den_tex)
+    await page.waitForFunction((tex) => (window.document.querySelector('[data-testid=result][data-stale=false] [data-testid=closed-loop-symbolic] annotation')?.textContent ?? '').includes(tex), { timeout: 15_000 }, witness.body.closed_loop.den_tex)
     expect(await page.$eval('[data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')).not.toBe(before)
     expect(await textOf(page, '[data-testid=stability-verdict]')).toBe(verdictWords(witness.body.stability))
 
