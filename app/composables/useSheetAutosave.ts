@@ -2,7 +2,7 @@ import type { SheetDetail } from '#shared/schemas/sheets'
 import { conflictUnits, mergeForms, type ConflictUnit } from '~/utils/sheetConflict'
 import { formOfDocument, formPathOf, loopPathOf, type FormReading, type SheetForm } from '~/utils/sheetForm'
 
-export type SaveState = 'saved' | 'saving' | 'unsaved' | 'offline' | 'refused' | 'conflict' | 'read-only'
+export type SaveState = 'saved' | 'saving' | 'unsaved' | 'incomplete' | 'offline' | 'refused' | 'conflict' | 'read-only'
 
 export interface SaveProblem {
   /** Form path of the field the server named, or null. */
@@ -71,6 +71,7 @@ export function useSheetAutosave(options: {
     if (saving.value) return 'saving'
     if (offline.value) return 'offline'
     if (problem.value && dirty.value) return 'refused'
+    if (dirty.value && !options.reading.value.valid) return 'incomplete'
     return dirty.value ? 'unsaved' : 'saved'
   })
 

@@ -6,7 +6,7 @@ import { readFileSync, readdirSync } from 'node:fs'
 import type { Page } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { loopFileOf, type SheetDocument } from '../../shared/schemas/sheet'
+import { loopFileOf, sheetDocumentSchema, type SheetDocument } from '../../shared/schemas/sheet'
 import { closeLoopAround } from '../../app/utils/structureTree'
 import { api, apiSignIn, baseUrl } from './api'
 import { launchBrowser, screenshot, screenshotDir, signIn, textOf, type TestBrowser } from './browser'
@@ -91,11 +91,11 @@ describe('the sheet editor', () => {
       await page.keyboard.type(`TIC-960-${templates.indexOf(name) + 1}`)
       await Promise.all([page.waitForNavigation({ waitUntil: 'networkidle0' }).catch(() => null), page.click('[data-testid=start-sheet-submit]')])
       await page.waitForFunction(() => /\/sheets\/\d+$/.test(location.pathname))
-      await page.waitForSelector('[data-testid=result][data-stale=false]')
+      await page.waitForSelector('[data-testid=live-results] [data-testid=result][data-stale=false] [data-testid=stability-verdict]')
       const id = Number(new URL(page.url()).pathname.split('/').at(-1))
       const sheet = await stored(id)
       // The whole template: its loop and its texts, stored by the server with its own result.
-      expect(loopFileOf(sheet.revision.document)).toEqual(loopFileOf(template.document))
+      expect(loopFileOf(sheet.revision.document)).toEqual(loopFileOf(sheetDocumentSchema.parse(template.document)))
       expect(sheet.revision.document.scope).toBe(template.document.scope ?? '')
       expect(await textOf(page, '[data-testid=stability-verdict]')).toBe(verdictWords(sheet.revision.result.stability))
       expect(await page.$eval(field('scope'), (el) => (el as HTMLTextAreaElement).value)).toBe(template.document.scope ?? '')
@@ -184,10 +184,16 @@ describe('the sheet editor', () => {
     await replaceText(page, 'scope', 'Discharge pressure of the booster header, with the pump speed as an inner loop.')
     const kc = await parameterIndex(page, 'Kc')
     await replaceText(page, `parameters[${kc}].source`, 'Tuning proposed on this sheet, to be confirmed on site')
+    const assumptions = document.assumptions.length
     await page.click('[data-testid=add-assumptions]')
-    await replaceText(page, 'assumptions[0]', 'The header pressure transmitter is calibrated.')
+    // An empty assumption is refused by the shared schema: the sheet waits, unsaved, with the message at the field.
+    await page.waitForSelector(`[data-error-for="assumptions[${assumptions}]"]`)
+    await waitForState(page, 'incomplete')
+    await replaceText(page, `assumptions[${assumptions}]`, 'The header pressure transmitter is calibrated.')
     await waitForState(page, 'saved')
     await screenshot(page, 'sheet-editor-1280')
+    for (const part of ['parameter-table', 'block-list', 'structure-editor', 'live-results'])
+      await (await page.$(`[data-testid=${part}]`))!.screenshot({ path: `${screenshotDir}sheet-${part}-1280.png` })
     await page.setViewport({ width: 1920, height: 1080 })
     await screenshot(page, 'sheet-editor-1920')
     const diagram = await page.$('[data-testid=loop-diagram]')
@@ -198,12 +204,12 @@ describe('the sheet editor', () => {
     await page.waitForSelector('[data-testid=result][data-stale=false]')
     expect(await page.$eval(field('scope'), (el) => (el as HTMLTextAreaElement).value)).toBe('Discharge pressure of the booster header, with the pump speed as an inner loop.')
     expect(await page.$eval(field(`parameters[${kc}].source`), (el) => (el as HTMLInputElement).value)).toBe('Tuning proposed on this sheet, to be confirmed on site')
-    expect(await page.$eval(field('assumptions[0]'), (el) => (el as HTMLTextAreaElement).value)).toBe('The header pressure transmitter is calibrated.')
+    expect(await page.$eval(field(`assumptions[${assumptions}]`), (el) => (el as HTMLTextAreaElement).value)).toBe('The header pressure transmitter is calibrated.')
     expect(await junctions()).toBe(2)
     await waitForState(page, 'saved')
     const saved = await stored(id)
     expect(saved.revision.document.loop.structure).toEqual(cascade)
-    expect(saved.revision.document.assumptions).toEqual(['The header pressure transmitter is calibrated.'])
+    expect(saved.revision.document.assumptions).toEqual([...document.assumptions, 'The header pressure transmitter is calibrated.'])
     expect(saved.revision.result.closed_loop.den).toEqual(witness.body.closed_loop.den)
   })
 
