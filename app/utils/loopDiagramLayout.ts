@@ -26,12 +26,12 @@ export const FONT_SIZE = 13
 /** Average advance of Noto Sans at 13 px, a little generous so a label never touches its box. */
 const CHAR_WIDTH = 7.2
 const LINE_HEIGHT = 16
-const BLOCK_MIN_WIDTH = 84
-const BLOCK_PAD = 14
-const GAP = 34
+const BLOCK_MIN_WIDTH = 72
+const BLOCK_PAD = 10
+const GAP = 28
 const ROW_GAP = 26
 const R = 10
-const WRAP_AT = 22
+const WRAP_AT = 18
 
 interface Box {
   w: number
@@ -186,7 +186,7 @@ function boxOf(node: StructureNode, labels: Record<string, string | undefined>, 
   return blockBox('?', 'not a structure node')
 }
 
-const LEAD = 46
+const LEAD = 40
 const MARGIN = 12
 
 /** The whole diagram: the reference R(s) coming in on the left, the output C(s) leaving on the right. */

@@ -101,7 +101,7 @@ describe('the sheet editor', () => {
       expect(await page.$eval(field('scope'), (el) => (el as HTMLTextAreaElement).value)).toBe(template.document.scope ?? '')
       await waitForState(page, 'saved')
     }
-  })
+  }, 240_000)
 
   it('turns the verdict unstable as a gain rises, and stable again', async () => {
     const id = await newSheet('pi-pressure-loop')
@@ -211,7 +211,7 @@ describe('the sheet editor', () => {
     expect(saved.revision.document.loop.structure).toEqual(cascade)
     expect(saved.revision.document.assumptions).toEqual([...document.assumptions, 'The header pressure transmitter is calibrated.'])
     expect(saved.revision.result.closed_loop.den).toEqual(witness.body.closed_loop.den)
-  })
+  }, 240_000)
 
   it('resolves a stale save from a second tab field by field, with nothing lost', async () => {
     const id = await newSheet('integrating-level-loop')
