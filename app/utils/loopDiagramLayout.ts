@@ -31,7 +31,7 @@ const BLOCK_PAD = 10
 const GAP = 28
 const ROW_GAP = 26
 const R = 10
-const WRAP_AT = 18
+const WRAP_AT = 20
 
 interface Box {
   w: number
