@@ -33,6 +33,7 @@ async function main() {
     headless: true,
     args: ['--headless=new', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--no-first-run'],
     defaultViewport: { width: 1280, height: 900 },
+    protocolTimeout: 60_000,
   })
   try {
     const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: engineer, password: demoPassword }) })
@@ -50,7 +51,7 @@ async function main() {
     await page.waitForSelector('[data-testid=person-name]')
     await page.goto(`${base}/sheets/${sheet.id}`, { waitUntil: 'networkidle0' })
     await page.waitForSelector('[data-testid=result][data-stale=false]')
-    const row = await page.$$eval('[data-parameter]', (rows) => rows.findIndex((r) => r.getAttribute('data-parameter') === 'Kc'))
+    const row = (await page.evaluate(`[...document.querySelectorAll('[data-parameter]')].findIndex((r) => r.getAttribute('data-parameter') === 'Kc')`)) as number
     const gain = `[data-field="parameters[${row}].value"]`
     // The tolerance band would refuse values outside it: cleared first, as an engineer exploring the gain would.
     await page.focus(`[data-field="parameters[${row}].max"]`)
@@ -60,47 +61,48 @@ async function main() {
 
     const times: number[] = []
     for (let i = 0; i < RUNS + 2; i++) {
-      const value = `1.${String(10 + i)}`
+      // The last key always changes the number (1.0 → 1.05, 1.1 → 1.15, …), so the result must change.
+      const value = `1.${i}5`
       await page.focus(gain)
       await page.keyboard.down('Control'); await page.keyboard.press('KeyA'); await page.keyboard.up('Control')
       await page.keyboard.type(value.slice(0, -1))
-      await page.waitForFunction(() => document.querySelector('[data-testid=compute-status]')?.textContent?.trim() !== 'computing…')
+      await page.waitForFunction(`document.querySelector('[data-testid=compute-status]')?.textContent?.trim() !== 'computing…'`)
       await new Promise((resolve) => setTimeout(resolve, 120))
       // In the page: keydown of the last key starts the clock; the frame after T(s) changes stops it.
-      await page.evaluate((selector) => {
-        const w = window as unknown as { benchDone: Promise<number> }
-        w.benchDone = new Promise<number>((resolve) => {
-          const input = document.querySelector(selector)!
+      // Plain text, not a function: tsx would wrap a function's inner arrows in a helper the page lacks.
+      await page.evaluate(`(() => {
+        window.benchDone = new Promise((resolve) => {
+          const input = document.querySelector(${JSON.stringify(gain)})
           const target = () => document.querySelector('[data-testid=closed-loop-numeric]')
           const before = target()?.textContent
           let t0 = 0
-          input.addEventListener('keydown', () => (t0 = performance.now()), { once: true, capture: true })
+          input.addEventListener('keydown', () => { t0 = performance.now() }, { once: true, capture: true })
           const observer = new MutationObserver(() => {
             if (t0 && target()?.textContent !== before) {
               observer.disconnect()
               requestAnimationFrame(() => resolve(performance.now() - t0))
             }
           })
-          observer.observe(document.querySelector('[data-testid=live-results]')!, { subtree: true, childList: true, characterData: true })
+          observer.observe(document.querySelector('[data-testid=live-results]'), { subtree: true, childList: true, characterData: true })
         })
-      }, gain)
+      })()`)
       await page.keyboard.type(value.slice(-1))
-      const ms = await page.evaluate(() => (window as unknown as { benchDone: Promise<number> }).benchDone)
+      const ms = (await page.evaluate(`Promise.race([window.benchDone, new Promise((_, reject) => setTimeout(() => reject(new Error('the results did not change within 10 s')), 10000))])`)) as number
       if (i >= 2) times.push(ms) // two warm-up runs
     }
 
     // The server round trip of the workbench, from the same page.
     const body = JSON.stringify(loopFileOf((await get(`/api/sheets/${sheet.id}`)).revision.document))
-    const roundTrips = await page.evaluate(async (body, runs) => {
-      const out: number[] = []
-      for (let i = 0; i < runs + 2; i++) {
+    const roundTrips = (await page.evaluate(`(async () => {
+      const out = []
+      for (let i = 0; i < ${RUNS + 2}; i++) {
         const t0 = performance.now()
-        const answer = await fetch('/api/calculate', { method: 'POST', headers: { 'content-type': 'application/json' }, body })
+        const answer = await fetch('/api/calculate', { method: 'POST', headers: { 'content-type': 'application/json' }, body: ${JSON.stringify(body)} })
         await answer.json()
         if (i >= 2) out.push(performance.now() - t0)
       }
       return out
-    }, body, RUNS)
+    })()`)) as number[]
 
     const worker = median(times)
     const server = median(roundTrips)
