@@ -14,7 +14,7 @@
  * The bench always exits 0: a failed target is reported, not thrown.
  */
 import { spawnSync } from 'node:child_process'
-import { readFileSync } from 'node:fs'
+import { existsSync, readFileSync } from 'node:fs'
 import { cpus, loadavg } from 'node:os'
 import { fileURLToPath } from 'node:url'
 import { setFlagsFromString } from 'node:v8'
@@ -163,4 +163,8 @@ console.log(`memory, ${largest.name}: heap grew ${mib(heapAfterRun - heapBefore)
 const failed = verdicts.filter((v) => v.includes('FAIL'))
 // The project sheet list with 10,000 sheets, in a scratch database of this checkout's PostgreSQL (scripts/bench-sheet-list.ts).
 spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-sheet-list.ts', import.meta.url))], { stdio: 'inherit' })
+// The sheet editor's keystroke-to-result figure, in a browser against the built app (scripts/bench-editor.ts).
+if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
+  spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-editor.ts', import.meta.url))], { stdio: 'inherit' })
+else console.log('\nSheet editor benchmark skipped: the app is not built (run scripts/setup first).')
 console.log(`\n${failed.length === 0 ? 'All targets met.' : `${failed.length} target(s) not met: ${failed.join('; ')}.`} (The bench exits 0 either way: it reports, it does not gate.)`)
