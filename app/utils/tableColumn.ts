@@ -8,3 +8,12 @@ export interface TableColumn {
   /** Hidden below laptop width to keep the table readable. */
   wide?: boolean
 }
+
+/** A choice above a UiListView's table, kept in the URL under `name` and sent to the route as that query field. */
+export interface ListFilter {
+  name: string
+  label: string
+  /** The first option, which sets no filter: "Any role". */
+  anyText: string
+  options: ReadonlyArray<{ value: string; label: string }>
+}
