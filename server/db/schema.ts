@@ -13,6 +13,7 @@ import {
   serial,
   text,
   timestamp,
+  uniqueIndex,
 } from 'drizzle-orm/pg-core'
 
 const createdAt = () => timestamp('created_at', { withTimezone: true }).notNull().defaultNow()
@@ -137,4 +138,92 @@ export const auditEvents = pgTable(
     detail: jsonb('detail').notNull().default(sql`'{}'::jsonb`),
   },
   (table) => [index('audit_events_at').on(table.at)],
+)
+
+/** A project's groups of sheets, issued together (product.md: a calculation package). */
+export const packages = pgTable(
+  'packages',
+  {
+    id: serial('id').primaryKey(),
+    projectId: integer('project_id')
+      .notNull()
+      .references(() => projects.id),
+    number: text('number').notNull(),
+    title: text('title').notNull(),
+    createdBy: integer('created_by')
+      .notNull()
+      .references(() => people.id),
+    createdAt: createdAt(),
+  },
+  (table) => [uniqueIndex('packages_project_number').on(table.projectId, table.number)],
+)
+
+/**
+ * A calculation sheet: what stays the same across its revisions. The number comes from the firm's numbering
+ * pattern (firm_settings.sheet_numbering) and is unique in the project.
+ */
+export const sheets = pgTable(
+  'sheets',
+  {
+    id: serial('id').primaryKey(),
+    projectId: integer('project_id')
+      .notNull()
+      .references(() => projects.id),
+    packageId: integer('package_id').references(() => packages.id),
+    number: text('number').notNull(),
+    title: text('title').notNull(),
+    loopTag: text('loop_tag').notNull(),
+    createdBy: integer('created_by')
+      .notNull()
+      .references(() => people.id),
+    createdAt: createdAt(),
+  },
+  (table) => [
+    uniqueIndex('sheets_project_number').on(table.projectId, table.number),
+    // The list's default order: numbers by length, then text, come in sequence order (server/services/sheets.ts).
+    index('sheets_project_number_order').on(table.projectId, sql`length(${table.number})`, table.number),
+    index('sheets_project_title').on(table.projectId, table.title),
+    index('sheets_project_loop_tag').on(table.projectId, table.loopTag),
+    index('sheets_package').on(table.packageId),
+  ],
+)
+
+/**
+ * One revision of a sheet: the whole sheet document as one jsonb value, the engine's result as the server
+ * computed it at the last save, and a version every save bumps. The current revision is the highest index.
+ */
+export const sheetRevisions = pgTable(
+  'sheet_revisions',
+  {
+    id: serial('id').primaryKey(),
+    sheetId: integer('sheet_id')
+      .notNull()
+      .references(() => sheets.id),
+    revisionIndex: integer('revision_index').notNull(),
+    /** Null until the revision is issued. */
+    label: text('label'),
+    status: text('status').notNull().default('draft'),
+    document: jsonb('document').notNull(),
+    version: integer('version').notNull().default(1),
+    /** Null when the engine refused the document at that save. */
+    result: jsonb('result'),
+    engineVersion: text('engine_version').notNull(),
+    preparedBy: integer('prepared_by')
+      .notNull()
+      .references(() => people.id),
+    editedBy: integer('edited_by')
+      .notNull()
+      .references(() => people.id),
+    editedAt: timestamp('edited_at', { withTimezone: true }).notNull().defaultNow(),
+    createdAt: createdAt(),
+  },
+  (table) => [
+    uniqueIndex('sheet_revisions_sheet_index').on(table.sheetId, table.revisionIndex),
+    index('sheet_revisions_status').on(table.status),
+    index('sheet_revisions_edited_at').on(table.editedAt),
+    index('sheet_revisions_prepared_by').on(table.preparedBy),
+    check('sheet_revisions_status_known', sql`${table.status} in ('draft', 'in check', 'returned', 'approved', 'issued', 'superseded')`),
+    check('sheet_revisions_index_natural', sql`${table.revisionIndex} >= 0`),
+    check('sheet_revisions_version_positive', sql`${table.version} >= 1`),
+  ],
 )

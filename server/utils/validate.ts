@@ -2,6 +2,7 @@
 // Bad input answers 400 with `data.issues` = zod's flattened errors ({ formErrors, fieldErrors }), which
 // the forms show beside their fields (DEVELOPERS.md, "API").
 import { z, type ZodTypeAny } from 'zod'
+import { MAX_ID } from '../../shared/schemas/text'
 
 /** A validator for h3's readValidatedBody / getValidatedQuery / getValidatedRouterParams. */
 export function parseWith<S extends ZodTypeAny>(schema: S) {
@@ -13,6 +14,24 @@ export function parseWith<S extends ZodTypeAny>(schema: S) {
   }
 }
 
-/** Route parameter `[id]` (and `[personId]`): a positive integer. */
-export const idParams = z.object({ id: z.coerce.number().int().positive() })
-export const memberParams = idParams.extend({ personId: z.coerce.number().int().positive() })
+/**
+ * Like parseWith, and the answer's `data.field` names the first field at fault as a dotted path
+ * (`document.loop.blocks.P.den`), the way the engine's refusals name theirs.
+ */
+export function parseNamingField<S extends ZodTypeAny>(schema: S) {
+  return (input: unknown): z.output<S> => {
+    const result = schema.safeParse(input)
+    if (result.success) return result.data
+    const first = result.error.issues[0]
+    throw {
+      message: 'Some fields need attention',
+      field: first?.path.join('.') ?? '',
+      fieldMessage: first?.message ?? '',
+      issues: result.error.flatten(),
+    }
+  }
+}
+
+/** Route parameter `[id]` (and `[personId]`): a positive integer that fits PostgreSQL's integer. */
+export const idParams = z.object({ id: z.coerce.number().int().positive().max(MAX_ID) })
+export const memberParams = idParams.extend({ personId: z.coerce.number().int().positive().max(MAX_ID) })

@@ -9,3 +9,15 @@ export const firmSettingsSchema = z.object({
   defaultCautions: z.array(z.string().trim().min(1).max(600)).max(20),
 })
 export type FirmSettings = z.infer<typeof firmSettingsSchema>
+
+/**
+ * A sheet number by the firm's pattern: `{project}` is the project number, `{seq}` the sheet's sequence in the
+ * project, `{seq:NN}` the same padded with zeros to NN digits. A pattern without `{seq}` gets `-{seq}` at its end,
+ * so numbers stay unique in the project.
+ */
+export function formatSheetNumber(pattern: string, projectNumber: string, seq: number): string {
+  const withSeq = /\{seq(?::\d+)?\}/.test(pattern) ? pattern : `${pattern}-{seq}`
+  return withSeq
+    .replaceAll('{project}', projectNumber)
+    .replace(/\{seq(?::(\d+))?\}/g, (_match, width?: string) => String(seq).padStart(Math.min(Number(width ?? 1), 12), '0'))
+}

@@ -1,7 +1,7 @@
 import { z } from 'zod'
 import { listQuerySchema, type Page } from './lists'
 import { sheetDocumentSchema, sheetStatuses, type SheetDocument, type SheetStatus } from './sheet'
-import { idSchema, plainText } from './text'
+import { idSchema, isStorableText, MAX_ID, plainText, storableTextMessage } from './text'
 import type { FirmSettings } from './firm'
 
 /**
@@ -14,7 +14,34 @@ const idQuery = z.coerce
   .number({ invalid_type_error: 'Choose one' })
   .int('An id is a whole number')
   .positive('An id is positive')
-  .max(2_147_483_647, 'No such id')
+  .max(MAX_ID, 'No such id')
+
+/** Page numbers far past any real list would overflow the database's offset. */
+const pageQuery = z.coerce.number().int().min(1).max(100_000).optional().default(1)
+
+/**
+ * Every text anywhere in a stored document, keys included, must be storable (PostgreSQL's jsonb refuses NUL, and a
+ * lone surrogate cannot be written as UTF-8): the loop file's own free text (units, labels, notes) is checked
+ * here too, so a bad character answers 400 at its path and never reaches the database.
+ */
+function checkStorable(value: unknown, path: Array<string | number>, ctx: z.RefinementCtx): void {
+  if (typeof value === 'string') {
+    if (!isStorableText(value)) ctx.addIssue({ code: 'custom', path, message: storableTextMessage })
+  } else if (Array.isArray(value)) {
+    value.forEach((item, i) => checkStorable(item, [...path, i], ctx))
+  } else if (value !== null && typeof value === 'object') {
+    for (const [key, item] of Object.entries(value)) {
+      if (!isStorableText(key)) ctx.addIssue({ code: 'custom', path, message: storableTextMessage })
+      else checkStorable(item, [...path, key], ctx)
+    }
+  }
+}
+
+/** The sheet document as a body holds it: the shared schema, and every text in it storable. */
+export const storableSheetDocumentSchema = z
+  .unknown()
+  .superRefine((value, ctx) => checkStorable(value, [], ctx))
+  .pipe(sheetDocumentSchema)
 
 export const sheetTitleSchema = plainText(200, 1, 'Enter the sheet’s title')
 
@@ -31,6 +58,7 @@ export type SheetSort = (typeof sheetSortable)[number]
 
 /** GET /api/projects/[id]/sheets */
 export const sheetsQuerySchema = listQuerySchema(sheetSortable).extend({
+  page: pageQuery,
   status: z.enum(sheetStatuses).optional(),
   packageId: idQuery.optional(),
 })
@@ -38,6 +66,7 @@ export type SheetsQuery = z.output<typeof sheetsQuerySchema>
 
 /** GET /api/sheets: the signed-in person's own sheets across projects; `mine=drafts` keeps draft and returned ones. */
 export const mySheetsQuerySchema = listQuerySchema(sheetSortable).extend({
+  page: pageQuery,
   mine: z.enum(['drafts', 'all']).optional().default('drafts'),
 })
 export type MySheetsQuery = z.output<typeof mySheetsQuerySchema>
@@ -58,8 +87,8 @@ export type NewSheetBody = z.infer<typeof newSheetSchema>
 /** PATCH /api/sheets/[id]: a save of the current revision. `version` is the one the editor last loaded or saved. */
 export const sheetSaveSchema = z
   .object({
-    version: z.number({ required_error: 'The version is missing', invalid_type_error: 'The version is a number' }).int().min(1).max(2_147_483_647),
-    document: sheetDocumentSchema,
+    version: z.number({ required_error: 'The version is missing', invalid_type_error: 'The version is a number' }).int().min(1).max(MAX_ID),
+    document: storableSheetDocumentSchema,
     title: sheetTitleSchema.optional(),
     loopTag: loopTagSchema.optional(),
   })
@@ -163,7 +192,7 @@ export interface PackageRow {
 export const sheetTemplateSchema = z.object({
   title: sheetTitleSchema,
   loopTag: loopTagSchema,
-  document: sheetDocumentSchema,
+  document: storableSheetDocumentSchema,
 })
 export type SheetTemplate = z.infer<typeof sheetTemplateSchema>
 

@@ -1,0 +1,521 @@
+// Calculation sheets and their revisions: the project's list, the engineer's own list, creation (blank, from a
+// template, or a copy), the sheet with its current revision, and saves that recompute through the engine.
+// Who may do what (product.md, "Who uses it"): admins and project members read; engineers who are members create
+// and save drafts (and returned sheets); checkers read; clients see only issued revisions, never a draft.
+import { and, asc, desc, eq, ilike, inArray, or, sql, type SQL } from 'drizzle-orm'
+import { alias } from 'drizzle-orm/pg-core'
+import { createError } from 'h3'
+import { organisations, packages, people, projectMembers, projects, sheetRevisions, sheets } from '../db/schema'
+import type { Database } from '../utils/db'
+import type { Page } from '../../shared/schemas/lists'
+import type { ProjectRole, Role } from '../../shared/schemas/roles'
+import { loopFileOf, sheetDocumentSchema, type SheetDocument, type SheetDocumentInput, type SheetStatus } from '../../shared/schemas/sheet'
+import {
+  clientVisibleStatuses,
+  editableStatuses,
+  type CreatedSheet,
+  type MySheetRow,
+  type MySheetsQuery,
+  type NewSheetBody,
+  type SheetDetail,
+  type SheetRow,
+  type SheetSaveBody,
+  type SheetsQuery,
+  type SheetTemplate,
+} from '../../shared/schemas/sheets'
+import { ENGINE_VERSION } from '../../shared/calc/version'
+import { recordAuditEvent, type AuditContext } from './audit-trail'
+import { readFirmSettings } from './firm'
+import { formatSheetNumber } from '../../shared/schemas/firm'
+
+export interface Viewer {
+  id: number
+  roles: Role[]
+}
+
+/** A refusal the route records and answers (403): the service never writes the audit row of a refusal itself. */
+export interface Refused {
+  refused: string
+  detail: Record<string, unknown>
+}
+export const refused = (reason: string, detail: Record<string, unknown>): Refused => ({ refused: reason, detail })
+export const isRefused = (outcome: unknown): outcome is Refused =>
+  typeof outcome === 'object' && outcome !== null && 'refused' in outcome && typeof (outcome as Refused).refused === 'string'
+
+/** The engine's answer to a document, as a save stores it. */
+export type Computation = { ok: true; result: unknown } | { ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine'; field?: string; message: string }
+export type Compute = (loopFileText: string) => Promise<Computation>
+
+/** Where templates come from (Nitro's server assets in the app; the files themselves in the seed and tests). */
+export type ReadTemplate = (name: string) => Promise<SheetTemplate | null>
+
+// ---------------------------------------------------------------------------------------------------------------
+// Access
+
+/** The roles `viewer` holds on project `projectId` (empty when not a member). */
+async function memberRoles(db: Pick<Database, 'select'>, projectId: number, viewer: Viewer): Promise<ProjectRole[]> {
+  const rows = await db
+    .select({ role: projectMembers.role })
+    .from(projectMembers)
+    .where(and(eq(projectMembers.projectId, projectId), eq(projectMembers.personId, viewer.id)))
+  return rows.map((row) => row.role as ProjectRole)
+}
+
+interface Access {
+  /** May open the project's sheets at all. */
+  read: boolean
+  /** May see revisions that are not issued (drafts, sheets in check): everyone who reads except a client. */
+  drafts: boolean
+  /** May create sheets and save editable revisions: an engineer who is an engineer member. */
+  write: boolean
+}
+
+function accessOf(viewer: Viewer, roles: ProjectRole[]): Access {
+  const admin = viewer.roles.includes('admin')
+  const staff = roles.some((role) => (role === 'engineer' || role === 'checker') && viewer.roles.includes(role))
+  const clientMember = roles.includes('client') && viewer.roles.includes('client')
+  return {
+    read: admin || staff || clientMember,
+    drafts: admin || staff,
+    write: viewer.roles.includes('engineer') && roles.includes('engineer'),
+  }
+}
+
+export async function projectAccess(db: Pick<Database, 'select'>, projectId: number, viewer: Viewer): Promise<Access> {
+  const [project] = await db.select({ id: projects.id }).from(projects).where(eq(projects.id, projectId))
+  if (!project) throw createError({ statusCode: 404, statusMessage: 'No such project' })
+  return accessOf(viewer, await memberRoles(db, projectId, viewer))
+}
+
+function badField(field: string, message: string): never {
+  throw createError({
+    statusCode: 400,
+    statusMessage: 'Some fields need attention',
+    data: { field, message, issues: { formErrors: [], fieldErrors: { [field]: [message] } } },
+  })
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Lists
+
+const current = alias(sheetRevisions, 'current')
+const editor = alias(people, 'editor')
+// Written out in full: inside a subquery drizzle may leave a column unqualified, which would name the wrong table.
+const sheetIdColumn = sql.raw('"sheets"."id"')
+/** The current revision is the one with the highest index. */
+const isCurrent = sql`${current.revisionIndex} = (select max(r.revision_index) from ${sheetRevisions} r where r.sheet_id = ${sheetIdColumn})`
+
+const rowColumns = {
+  id: sheets.id,
+  number: sheets.number,
+  title: sheets.title,
+  loopTag: sheets.loopTag,
+  status: current.status,
+  revisionIndex: current.revisionIndex,
+  revisionLabel: current.label,
+  packageId: sheets.packageId,
+  packageNumber: packages.number,
+  updatedAt: current.editedAt,
+  updatedByName: editor.name,
+}
+
+type SelectedRow = Omit<SheetRow, 'status' | 'updatedAt'> & { status: string; updatedAt: Date }
+
+function toRow<T extends SelectedRow>(row: T): Omit<T, 'status' | 'updatedAt'> & { status: SheetStatus; updatedAt: string } {
+  return { ...row, status: row.status as SheetStatus, updatedAt: row.updatedAt.toISOString() }
+}
+
+/** `%q%` for ILIKE, with the pattern characters of `q` itself taken literally. */
+function containing(q: string): string {
+  return `%${q.replace(/[\\%_]/g, (character) => `\\${character}`)}%`
+}
+
+/**
+ * Sheet numbers hold a sequence (`NWD-214-07`, `NWD-214-123`); ordered by length first, then text, they come in
+ * sequence order without parsing the firm's pattern (indexed by sheets_project_number_order).
+ */
+function orderOf(query: Pick<SheetsQuery, 'sort' | 'dir'>): SQL[] {
+  const direction = query.dir === 'desc' ? desc : asc
+  const byNumber = [direction(sql`length(${sheets.number})`), direction(sheets.number)]
+  switch (query.sort) {
+    case 'title':
+      return [direction(sheets.title), ...byNumber]
+    case 'status':
+      return [direction(current.status), ...byNumber]
+    case 'updatedAt':
+      return [direction(current.editedAt), direction(sheets.id)]
+    default:
+      return byNumber
+  }
+}
+
+function searchOf(q: string): SQL | undefined {
+  if (!q) return undefined
+  const pattern = containing(q)
+  return or(ilike(sheets.number, pattern), ilike(sheets.title, pattern), ilike(sheets.loopTag, pattern))
+}
+
+/** GET /api/projects/[id]/sheets: one page of the project's sheets. A client sees only issued revisions. */
+export async function listProjectSheets(db: Database, projectId: number, query: SheetsQuery, viewer: Viewer): Promise<Page<SheetRow> | Refused> {
+  const access = await projectAccess(db, projectId, viewer)
+  if (!access.read) return refused('You are not a member of this project', { projectId })
+  const filters = [eq(sheets.projectId, projectId), isCurrent, searchOf(query.q)]
+  if (query.status) filters.push(eq(current.status, query.status))
+  if (query.packageId) filters.push(eq(sheets.packageId, query.packageId))
+  if (!access.drafts) filters.push(inArray(current.status, [...clientVisibleStatuses]))
+  const where = and(...filters)
+  const [rows, [counted]] = await Promise.all([
+    db
+      .select(rowColumns)
+      .from(sheets)
+      .innerJoin(current, eq(current.sheetId, sheets.id))
+      .innerJoin(editor, eq(editor.id, current.editedBy))
+      .leftJoin(packages, eq(packages.id, sheets.packageId))
+      .where(where)
+      .orderBy(...orderOf(query))
+      .limit(query.pageSize)
+      .offset((query.page - 1) * query.pageSize),
+    db
+      .select({ total: sql<number>`count(*)::int` })
+      .from(sheets)
+      .innerJoin(current, eq(current.sheetId, sheets.id))
+      .where(where),
+  ])
+  return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
+}
+
+/**
+ * GET /api/sheets: the sheets whose current revision `viewer` prepared, across the projects they are still an
+ * engineer member of; `mine=drafts` keeps the ones they can still edit (draft or returned).
+ */
+export async function listMySheets(db: Database, query: MySheetsQuery, viewer: Viewer): Promise<Page<MySheetRow>> {
+  const filters = [
+    eq(current.preparedBy, viewer.id),
+    isCurrent,
+    searchOf(query.q),
+    sql`exists (select 1 from ${projectMembers} m where m.project_id = "sheets"."project_id" and m.person_id = ${viewer.id} and m.role = 'engineer')`,
+  ]
+  if (query.mine === 'drafts') filters.push(inArray(current.status, [...editableStatuses]))
+  const where = and(...filters)
+  const [rows, [counted]] = await Promise.all([
+    db
+      .select({ ...rowColumns, projectId: projects.id, projectNumber: projects.number })
+      .from(sheets)
+      .innerJoin(current, eq(current.sheetId, sheets.id))
+      .innerJoin(editor, eq(editor.id, current.editedBy))
+      .innerJoin(projects, eq(projects.id, sheets.projectId))
+      .leftJoin(packages, eq(packages.id, sheets.packageId))
+      .where(where)
+      .orderBy(...orderOf(query))
+      .limit(query.pageSize)
+      .offset((query.page - 1) * query.pageSize),
+    db
+      .select({ total: sql<number>`count(*)::int` })
+      .from(sheets)
+      .innerJoin(current, eq(current.sheetId, sheets.id))
+      .where(where),
+  ])
+  return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// One sheet
+
+const preparer = alias(people, 'preparer')
+
+async function loadSheet(db: Pick<Database, 'select'>, sheetId: number) {
+  const [row] = await db
+    .select({
+      id: sheets.id,
+      projectId: projects.id,
+      projectNumber: projects.number,
+      projectName: projects.name,
+      clientName: organisations.name,
+      number: sheets.number,
+      title: sheets.title,
+      loopTag: sheets.loopTag,
+      packageId: sheets.packageId,
+      packageNumber: packages.number,
+      packageTitle: packages.title,
+      revision: {
+        id: current.id,
+        index: current.revisionIndex,
+        label: current.label,
+        status: current.status,
+        version: current.version,
+        document: current.document,
+        result: current.result,
+        engineVersion: current.engineVersion,
+        preparedById: preparer.id,
+        preparedByName: preparer.name,
+        editedById: editor.id,
+        editedByName: editor.name,
+        editedAt: current.editedAt,
+        createdAt: current.createdAt,
+      },
+    })
+    .from(sheets)
+    .innerJoin(projects, eq(projects.id, sheets.projectId))
+    .innerJoin(organisations, eq(organisations.id, projects.organisationId))
+    .innerJoin(current, eq(current.sheetId, sheets.id))
+    .innerJoin(preparer, eq(preparer.id, current.preparedBy))
+    .innerJoin(editor, eq(editor.id, current.editedBy))
+    .leftJoin(packages, eq(packages.id, sheets.packageId))
+    .where(and(eq(sheets.id, sheetId), isCurrent))
+  return row ?? null
+}
+type LoadedSheet = NonNullable<Awaited<ReturnType<typeof loadSheet>>>
+
+async function detailOf(db: Database, row: LoadedSheet, access: Access): Promise<SheetDetail> {
+  const firm = await readFirmSettings(db)
+  const { revision } = row
+  const status = revision.status as SheetStatus
+  return {
+    ...row,
+    revision: {
+      id: revision.id,
+      index: revision.index,
+      label: revision.label,
+      status,
+      version: revision.version,
+      document: revision.document as SheetDocument,
+      result: revision.result ?? null,
+      engineVersion: revision.engineVersion,
+      preparedBy: { id: revision.preparedById, name: revision.preparedByName },
+      editedBy: { id: revision.editedById, name: revision.editedByName },
+      editedAt: revision.editedAt.toISOString(),
+      createdAt: revision.createdAt.toISOString(),
+    },
+    firm: { name: firm.name, paperSize: firm.paperSize, defaultCautions: firm.defaultCautions },
+    canEdit: access.write && editableStatuses.includes(status),
+  }
+}
+
+/** The sheet and what `viewer` may do with it; `Refused` when they may not see it. */
+async function sheetFor(db: Database, sheetId: number, viewer: Viewer) {
+  const row = await loadSheet(db, sheetId)
+  if (!row) throw createError({ statusCode: 404, statusMessage: 'No such sheet' })
+  const access = accessOf(viewer, await memberRoles(db, row.projectId, viewer))
+  if (!access.read) return refused('You are not a member of this sheet’s project', { sheetId })
+  const status = row.revision.status as SheetStatus
+  if (!access.drafts && !clientVisibleStatuses.includes(status)) return refused('This sheet is not issued', { sheetId, status })
+  return { row, access }
+}
+
+/** GET /api/sheets/[id] */
+export async function viewSheet(db: Database, sheetId: number, viewer: Viewer): Promise<SheetDetail | Refused> {
+  const found = await sheetFor(db, sheetId, viewer)
+  if (isRefused(found)) return found
+  return detailOf(db, found.row, found.access)
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Computing and numbering
+
+/** The engine's result for a document, or what stopped it. */
+async function computeDocument(compute: Compute, document: SheetDocument): Promise<Computation> {
+  return compute(JSON.stringify(loopFileOf(document)))
+}
+
+/** Answers the engine's refusal the way the calculate route does, with the field as the document names it. */
+function answerRefusal(computation: Exclude<Computation, { ok: true }>): never {
+  if (computation.kind === 'input') {
+    const field = computation.field ? `loop.${computation.field}` : 'loop'
+    throw createError({
+      statusCode: 400,
+      statusMessage: 'The engine cannot compute this loop',
+      message: computation.message,
+      data: { field, message: computation.message, issues: { formErrors: [], fieldErrors: { [field]: [computation.message] } } },
+    })
+  }
+  if (computation.kind === 'timeout') {
+    throw createError({ statusCode: 422, statusMessage: 'Computation stopped', message: computation.message, data: { message: computation.message } })
+  }
+  throw createError({ statusCode: 503, statusMessage: 'Busy', message: computation.message, data: { message: computation.message } })
+}
+
+/**
+ * The next free sheet number of the project by the firm's pattern. The caller holds the project's row lock, so
+ * two creations in one project take turns here; the loop steps past numbers already taken (a pattern changed
+ * since, say).
+ */
+async function nextSheetNumber(db: Pick<Database, 'select'>, project: { id: number; number: string }, pattern: string): Promise<string> {
+  const [counted] = await db.select({ n: sql<number>`count(*)::int` }).from(sheets).where(eq(sheets.projectId, project.id))
+  for (let seq = (counted?.n ?? 0) + 1; ; seq++) {
+    const number = formatSheetNumber(pattern, project.number, seq)
+    const [taken] = await db
+      .select({ id: sheets.id })
+      .from(sheets)
+      .where(and(eq(sheets.projectId, project.id), eq(sheets.number, number)))
+    if (!taken) return number
+  }
+}
+
+/** A blank sheet still holds one loop the engine can compute: a first-order plant under unity feedback. */
+export function blankDocument(title: string): SheetDocumentInput {
+  return {
+    loop: {
+      title,
+      parameters: { K: { value: 1, unit: '' }, T: { value: 10, unit: 's', tex: 'T' } },
+      blocks: { G: { role: 'plant', label: 'Process', num: 'K', den: 'T*s + 1' } },
+      structure: { feedback: { forward: 'G', return: null, sign: -1 } },
+    },
+    parameters: [
+      { symbol: 'K', description: 'Process gain', source: 'placeholder: replace with the process model' },
+      { symbol: 'T', description: 'Process time constant', source: 'placeholder: replace with the process model' },
+    ],
+    blockOrder: ['G'],
+  }
+}
+
+export interface CreateSources {
+  compute: Compute
+  readTemplate: ReadTemplate
+}
+
+/** POST /api/projects/[id]/sheets: a new sheet with its first revision (index 0, draft, version 1). */
+export async function createSheet(
+  db: Database,
+  projectId: number,
+  body: NewSheetBody,
+  viewer: Viewer,
+  context: AuditContext,
+  sources: CreateSources,
+): Promise<CreatedSheet | Refused> {
+  const access = await projectAccess(db, projectId, viewer)
+  if (!access.write) return refused('Only engineers of this project create its sheets', { projectId })
+  if (body.packageId) {
+    const [found] = await db
+      .select({ id: packages.id })
+      .from(packages)
+      .where(and(eq(packages.id, body.packageId), eq(packages.projectId, projectId)))
+    if (!found) badField('packageId', 'This project has no such package')
+  }
+
+  let source: SheetDocumentInput
+  if (body.template) {
+    const template = await sources.readTemplate(body.template)
+    if (!template) badField('template', 'No such template')
+    source = template.document
+  } else if (body.copyOf) {
+    const original = await loadSheet(db, body.copyOf)
+    // The same answer whether the sheet does not exist or the engineer may not read it: nothing is given away.
+    const readable = original && accessOf(viewer, await memberRoles(db, original.projectId, viewer)).drafts
+    if (!original || !readable) badField('copyOf', 'No such sheet')
+    source = original.revision.document as SheetDocument
+  } else {
+    source = blankDocument(body.title)
+  }
+  const document = sheetDocumentSchema.parse({ ...source, loop: { ...source.loop, title: body.title } })
+  const computation = await computeDocument(sources.compute, document)
+  if (!computation.ok && (computation.kind === 'busy' || computation.kind === 'timeout')) answerRefusal(computation)
+
+  return db.transaction(async (tx) => {
+    // The project's row lock makes concurrent creations in one project take turns for the next number.
+    const [project] = await tx.select({ id: projects.id, number: projects.number }).from(projects).where(eq(projects.id, projectId)).for('update')
+    const firm = await readFirmSettings(tx as unknown as Database)
+    const number = await nextSheetNumber(tx, project!, firm.sheetNumbering)
+    const [sheet] = await tx
+      .insert(sheets)
+      .values({ projectId, packageId: body.packageId ?? null, number, title: body.title, loopTag: body.loopTag, createdBy: viewer.id })
+      .returning({ id: sheets.id })
+    await tx.insert(sheetRevisions).values({
+      sheetId: sheet!.id,
+      revisionIndex: 0,
+      status: 'draft',
+      document,
+      version: 1,
+      result: computation.ok ? computation.result : null,
+      engineVersion: ENGINE_VERSION,
+      preparedBy: viewer.id,
+      editedBy: viewer.id,
+    })
+    await recordAuditEvent(tx, context, {
+      action: 'sheet.created',
+      subjectType: 'sheet',
+      subjectId: sheet!.id,
+      detail: { projectId, number, template: body.template ?? null, copyOf: body.copyOf ?? null, packageId: body.packageId ?? null },
+    })
+    return { id: sheet!.id, number }
+  })
+}
+
+/**
+ * PATCH /api/sheets/[id]: saves the current revision and stores the engine's result for it. The version is
+ * compared and bumped in one UPDATE, so of two saves from the same version exactly one wins; the other is
+ * answered 409 with the sheet as stored.
+ */
+export async function saveSheet(
+  db: Database,
+  sheetId: number,
+  body: SheetSaveBody,
+  viewer: Viewer,
+  context: AuditContext,
+  compute: Compute,
+): Promise<SheetDetail | Refused> {
+  const found = await sheetFor(db, sheetId, viewer)
+  if (isRefused(found)) return found
+  const { row, access } = found
+  const status = row.revision.status as SheetStatus
+  if (!access.write) return refused('Only engineers of this project edit its sheets', { sheetId })
+  if (!editableStatuses.includes(status)) return refused(`A sheet ${status} cannot be edited`, { sheetId, status })
+  if (body.version !== row.revision.version) await conflict(db, sheetId, viewer, context, body.version)
+
+  const computation = await computeDocument(compute, body.document)
+  // An engine that fails on its own (not on the input) still lets the engineer's work be kept, without a result.
+  if (!computation.ok && computation.kind !== 'engine') answerRefusal(computation)
+
+  const saved = await db.transaction(async (tx) => {
+    const [updated] = await tx
+      .update(sheetRevisions)
+      .set({
+        document: body.document,
+        result: computation.ok ? computation.result : null,
+        engineVersion: ENGINE_VERSION,
+        version: sql`${sheetRevisions.version} + 1`,
+        editedBy: viewer.id,
+        editedAt: new Date(),
+      })
+      .where(
+        and(
+          eq(sheetRevisions.id, row.revision.id),
+          eq(sheetRevisions.version, body.version),
+          inArray(sheetRevisions.status, [...editableStatuses]),
+        ),
+      )
+      .returning({ version: sheetRevisions.version })
+    if (!updated) return null
+    if (body.title !== undefined || body.loopTag !== undefined) {
+      await tx
+        .update(sheets)
+        .set({ ...(body.title !== undefined ? { title: body.title } : {}), ...(body.loopTag !== undefined ? { loopTag: body.loopTag } : {}) })
+        .where(eq(sheets.id, sheetId))
+    }
+    await recordAuditEvent(tx, context, {
+      action: 'sheet.saved',
+      subjectType: 'sheet',
+      subjectId: sheetId,
+      detail: { revisionId: row.revision.id, version: updated.version, computed: computation.ok },
+    })
+    return updated
+  })
+  if (!saved) await conflict(db, sheetId, viewer, context, body.version)
+  return detailOf(db, (await loadSheet(db, sheetId))!, access)
+}
+
+/** 409 with the sheet as stored, so the editor can set it beside the engineer's unsaved edits. */
+async function conflict(db: Database, sheetId: number, viewer: Viewer, context: AuditContext, staleVersion: number): Promise<never> {
+  const current = await viewSheet(db, sheetId, viewer)
+  await recordAuditEvent(db, context, {
+    action: 'sheet.save-refused',
+    subjectType: 'sheet',
+    subjectId: sheetId,
+    status: 409,
+    detail: { staleVersion, storedVersion: isRefused(current) ? null : current.revision.version },
+  })
+  throw createError({
+    statusCode: 409,
+    statusMessage: 'This sheet was saved since you loaded it',
+    data: { current: isRefused(current) ? null : current },
+  })
+}
