@@ -3,6 +3,7 @@
 import katex from 'katex'
 import { describe, expect, it } from 'vitest'
 import { evaluateLoop } from '../../shared/calc'
+import { loopFileOf, sheetDocumentSchema } from '../../shared/schemas/sheet'
 import { breakTex, canBreak, topLevelPieces } from '../../app/utils/texBreak'
 import cascade from '../../sheets/cascade-loop.json'
 
@@ -21,7 +22,7 @@ describe('breaking long formulas at their top level', () => {
   })
 
   it('sets every formula of the cascade template as lines KaTeX accepts, with the same TeX between the breaks', () => {
-    const result = evaluateLoop(cascade)
+    const result = evaluateLoop(loopFileOf(sheetDocumentSchema.parse(cascade.document)))
     const formulas = [`D(s) = ${result.closed_loop.den_tex}`, `N(s) = ${result.closed_loop.num_tex}`, ...result.steps.map((step) => step.tex)]
     let broken = 0
     for (const tex of formulas) {
