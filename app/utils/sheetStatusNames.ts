@@ -12,5 +12,5 @@ export const sheetStatusNames: Record<SheetStatus, string> = {
 
 /** A revision as lists and the title block write it: its label once issued, else its index, said to be unissued. */
 export function revisionWords(index: number, label: string | null) {
-  return label ?? `${index}, not issued`
+  return label ?? `${index} (not issued)`
 }

@@ -224,6 +224,7 @@ describe('the print view', () => {
       expect(await textOf(page, `[data-parameter="${firstParameter.symbol}"] td:nth-child(3)`)).toBe(formatNumber(value))
       const safety = await textOf(page, '[data-section=safety]')
       for (const caution of detail.body.firm.defaultCautions) expect(safety).toContain(caution)
+      for (const note of detail.body.revision.document.safetyNotes) expect(safety).toContain(note)
       expect(safety).toContain('A basic control loop is not a safety function')
       // T(s) in full, as the engine typeset it, in the MathML copy KaTeX keeps.
       const typeset = await page.$eval('[data-section=stability] [data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')
