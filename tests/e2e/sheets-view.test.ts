@@ -253,7 +253,9 @@ describe('the print view', () => {
       pages.forEach((sheet, index) => {
         expect(sheet).toContain(`Page ${index + 1} of ${pages.length}`)
         expect(sheet).toContain(detail.body.number)
-        expect(sheet).toContain(detail.body.clientName) // only the title block names the client
+        // Only the title block has these labels (set in capitals by its style sheet); the margin box has the number.
+        for (const label of ['PROJECT', 'CLIENT', 'LOOP TAG', 'REVISION · STATUS', 'CHECKED BY']) expect(sheet).toContain(label)
+        expect(sheet).toContain(tag)
       })
       execFileSync('pdftoppm', ['-png', '-r', '60', pdfPath, join(screenshotDir, `print-${tag}-page`)])
       await page.emulateMediaType('screen')
