@@ -17,3 +17,8 @@ export interface ListFilter {
   anyText: string
   options: ReadonlyArray<{ value: string; label: string }>
 }
+
+/** The data key of a UiListView's route: `refreshNuxtData(listDataKey(route))` asks the list again (after a change). */
+export function listDataKey(route: string) {
+  return `list:${route}`
+}
