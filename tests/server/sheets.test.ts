@@ -18,7 +18,8 @@ beforeAll(async () => {
   projectNumber = unique('LST-').toUpperCase()
   const project = await cast.admin.post('/api/projects', { number: projectNumber, name: 'List test works', organisationId: northmere!.id })
   projectId = project.body.id
-  expect((await cast.admin.post(`/api/projects/${projectId}/members`, { personId: cast.ids.engineer, role: 'engineer' })).status).toBe(201)
+  for (const personId of [cast.ids.engineer, cast.ids.secondEngineer])
+    expect((await cast.admin.post(`/api/projects/${projectId}/members`, { personId, role: 'engineer' })).status).toBe(201)
   engineer = cast.engineer
 })
 
