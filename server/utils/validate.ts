@@ -23,9 +23,11 @@ export function parseNamingField<S extends ZodTypeAny>(schema: S) {
     const result = schema.safeParse(input)
     if (result.success) return result.data
     const first = result.error.issues[0]
+    // A key the schema does not know is named itself, not its parent object.
+    const path = first?.code === 'unrecognized_keys' ? [...first.path, first.keys[0]] : (first?.path ?? [])
     throw {
       message: 'Some fields need attention',
-      field: first?.path.join('.') ?? '',
+      field: path.join('.'),
       fieldMessage: first?.message ?? '',
       issues: result.error.flatten(),
     }

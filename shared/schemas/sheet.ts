@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { loopFileSchema, type LoopFile, type LoopFileInput } from './loop'
+import { criterionBounds, loopFileSchema, type CriterionName, type LoopFile, type LoopFileInput } from './loop'
 import { plainText } from './text'
 
 /**
@@ -65,7 +65,9 @@ export type SheetDocumentInput = z.input<typeof sheetDocumentSchema>
 
 /**
  * The loop file of a sheet, as the engine and "Download loop file" take it: parameters and blocks in print
- * order, each parameter's source as its `note`.
+ * order, each parameter's source as its `note`, the criteria in one fixed order (that of `criterionBounds`):
+ * jsonb keeps no key order, so the order of the stored criteria object cannot be the print order, and the result
+ * the server stores must come out the same as one computed again from the stored document.
  */
 export function loopFileOf(document: SheetDocument): LoopFile {
   const { loop } = document
@@ -76,7 +78,10 @@ export function loopFileOf(document: SheetDocument): LoopFile {
   }
   const blocks: LoopFile['blocks'] = {}
   for (const id of document.blockOrder) if (loop.blocks[id]) blocks[id] = loop.blocks[id]
-  return { ...loop, parameters, blocks }
+  const criteria: LoopFile['criteria'] = {}
+  const stated = loop.criteria ?? {}
+  for (const name of Object.keys(criterionBounds) as CriterionName[]) if (stated[name]) criteria[name] = stated[name]
+  return { ...loop, parameters, blocks, criteria }
 }
 
 /** A sheet document around an imported loop file: the file's order kept, each `note` taken as the source. */

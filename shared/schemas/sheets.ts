@@ -58,6 +58,7 @@ export type SheetSort = (typeof sheetSortable)[number]
 
 /** GET /api/projects/[id]/sheets */
 export const sheetsQuerySchema = listQuerySchema(sheetSortable).extend({
+  q: plainText(200).optional().default(''),
   page: pageQuery,
   status: z.enum(sheetStatuses).optional(),
   packageId: idQuery.optional(),
@@ -66,6 +67,7 @@ export type SheetsQuery = z.output<typeof sheetsQuerySchema>
 
 /** GET /api/sheets: the signed-in person's own sheets across projects; `mine=drafts` keeps draft and returned ones. */
 export const mySheetsQuerySchema = listQuerySchema(sheetSortable).extend({
+  q: plainText(200).optional().default(''),
   page: pageQuery,
   mine: z.enum(['drafts', 'all']).optional().default('drafts'),
 })

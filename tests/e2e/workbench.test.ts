@@ -7,12 +7,14 @@ import type { Page } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { formatNumber } from '../../app/utils/format'
+import { loopFileOf } from '../../shared/schemas/sheet'
 import { api, apiSignIn, baseUrl } from './api'
 import { launchBrowser, screenshot, signIn, textOf, type TestBrowser } from './browser'
 
 const engineer = 'tomas.okafor@example.com'
 const template = 'pi-pressure-loop'
-const loop = JSON.parse(readFileSync(new URL(`../../sheets/${template}.json`, import.meta.url), 'utf8'))
+// A template is a whole sheet; the workbench edits its loop file (loopFileOf), as "Download loop file" gives it.
+const loop = loopFileOf(JSON.parse(readFileSync(new URL(`../../sheets/${template}.json`, import.meta.url), 'utf8')).document)
 
 let chromium: TestBrowser
 beforeAll(async () => {

@@ -1,4 +1,5 @@
 import { execFileSync } from 'node:child_process'
+import { readFileSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import { describe, expect, inject, it } from 'vitest'
 import { database } from './support/client'
@@ -17,6 +18,12 @@ async function demoRows() {
       where email in ${sql(emails)} order by id`,
     members: await sql`select m.project_id, m.person_id, m.role from project_members m
       join projects p on p.id = m.project_id where p.number = 'NWD-214' order by m.person_id, m.role`,
+    packages: await sql`select k.id, k.number, k.title, k.created_by from packages k
+      join projects p on p.id = k.project_id where p.number = 'NWD-214' and k.title = 'Hollins Booster Station control loops'`,
+    sheets: await sql`select s.id, s.number, s.title, s.loop_tag, s.package_id, s.created_by, r.revision_index, r.status, r.version,
+        r.prepared_by, r.result->>'stability' as stability, r.engine_version
+      from sheets s join sheet_revisions r on r.sheet_id = s.id join packages k on k.id = s.package_id
+      where k.title = 'Hollins Booster Station control loops' order by s.id`,
   }
 }
 
@@ -30,6 +37,27 @@ describe('seed', () => {
     expect(rows.members.map((member) => member.role).sort()).toEqual(['checker', 'client', 'engineer', 'engineer'])
   })
 
+  it('gives NWD-214 the package of its four demo loops as computed drafts prepared by the demo engineer', async () => {
+    const rows = await demoRows()
+    const engineer = rows.people.find((person) => person.email === 'tomas.okafor@example.com')!
+    expect(rows.packages).toHaveLength(1)
+    expect(rows.sheets.map((sheet) => sheet.loop_tag)).toEqual(['PIC-214-01', 'LIC-214-02', 'FIC-214-03', 'LIC-214-04'])
+    expect(rows.sheets.map((sheet) => sheet.number)).toEqual(['NWD-214-01', 'NWD-214-02', 'NWD-214-03', 'NWD-214-04'])
+    for (const sheet of rows.sheets) {
+      expect(sheet).toMatchObject({ package_id: rows.packages[0]!.id, revision_index: 0, status: 'draft', version: 1, prepared_by: engineer.id, created_by: engineer.id })
+      // Each computed by the engine at seeding; all four demo loops are designed stable.
+      expect(sheet.stability).toBe('stable')
+    }
+    // The booster pressure sheet holds the demo loop of the contract's example (shared/examples/booster-pressure.json).
+    const [booster] = await database()`select r.document->'loop'->'blocks' as blocks, r.result->'closed_loop'->'den' as den
+      from sheet_revisions r join sheets s on s.id = r.sheet_id where s.loop_tag = 'PIC-214-01'`
+    const example = JSON.parse(readFileSync(new URL('../../../shared/examples/booster-pressure.json', import.meta.url), 'utf8'))
+    expect(booster!.blocks).toEqual(example.blocks)
+    const expected = JSON.parse(readFileSync(new URL('../../../shared/examples/expected/booster-pressure.json', import.meta.url), 'utf8'))
+    // Reference: shared/examples/expected (sympy exact reduction), to the contract's 1e-12 relative.
+    expected.closed_loop.den.forEach((value: number, i: number) => expect(booster!.den[i]).toBeCloseTo(value, 10))
+  })
+
   it('gives the same rows when run a second time', async () => {
     const before = await demoRows()
     execFileSync('node', ['--import', 'tsx', 'scripts/seed.ts'], {
@@ -41,7 +69,8 @@ describe('seed', () => {
     const [counts] = await database()`select
       (select count(*)::int from organisations where name = 'Northmere Water District') as organisations,
       (select count(*)::int from projects where number = 'NWD-214') as projects,
-      (select count(*)::int from firm_settings) as firms`
-    expect(counts).toEqual({ organisations: 1, projects: 1, firms: 1 })
+      (select count(*)::int from firm_settings) as firms,
+      (select count(*)::int from packages where title = 'Hollins Booster Station control loops') as packages`
+    expect(counts).toEqual({ organisations: 1, projects: 1, firms: 1, packages: 1 })
   })
 })
