@@ -14,7 +14,7 @@
  * The bench always exits 0: a failed target is reported, not thrown.
  */
 import { spawnSync } from 'node:child_process'
-import { readFileSync } from 'node:fs'
+import { existsSync, readFileSync } from 'node:fs'
 import { cpus, loadavg } from 'node:os'
 import { fileURLToPath } from 'node:url'
 import { setFlagsFromString } from 'node:v8'
@@ -161,4 +161,8 @@ if (sympy) {
 const mib = (b: number) => (b / 1024 / 1024).toFixed(1)
 console.log(`memory, ${largest.name}: heap grew ${mib(heapAfterRun - heapBefore)} MiB during one evaluation (lower bound), ${mib(heapRetained)} MiB retained after collection; peak RSS of the bench process ${peakRssMiB.toFixed(0)} MiB`)
 const failed = verdicts.filter((v) => v.includes('FAIL'))
+// The sheet editor's keystroke-to-result figure, in a browser against the built app (scripts/bench-editor.ts).
+if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
+  spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-editor.ts', import.meta.url))], { stdio: 'inherit' })
+else console.log('\nSheet editor benchmark skipped: the app is not built (run scripts/setup first).')
 console.log(`\n${failed.length === 0 ? 'All targets met.' : `${failed.length} target(s) not met: ${failed.join('; ')}.`} (The bench exits 0 either way: it reports, it does not gate.)`)

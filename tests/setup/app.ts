@@ -13,7 +13,7 @@ import type { TestProject } from 'vitest/node'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
 
-interface Instance {
+export interface Instance {
   name: string
   appPort: number
   database: string
@@ -24,7 +24,9 @@ interface Instance {
 /** LOOPWRIGHT_PORT_OFFSET shifts every port, as in scripts/lib/common.sh. */
 const offset = Number(process.env.LOOPWRIGHT_PORT_OFFSET ?? 0)
 
-function instanceOf(project: string): Instance {
+export function instanceOf(project: string): Instance {
+  // The editor's browser benchmark (scripts/bench-editor.ts): an app and database of its own, no mail sent.
+  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
   if (project === 'server') {
     return {
       name: 'server',
@@ -37,7 +39,7 @@ function instanceOf(project: string): Instance {
   return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
 }
 
-interface Running {
+export interface Running {
   instance: Instance
   env: Record<string, string>
   app: ChildProcess
@@ -104,7 +106,7 @@ async function waitForApp(baseUrl: string, app: ChildProcess, logFile: string) {
   throw new Error(`the app did not start on ${baseUrl}; see ${logFile}`)
 }
 
-async function start(instance: Instance): Promise<Running> {
+export async function start(instance: Instance): Promise<Running> {
   const pidFile = `${root}.data/test-app-${instance.name}.pid`
   const logFile = `${root}.data/test-app-${instance.name}.log`
   run(`${root}scripts/db`, ['start'])
@@ -126,7 +128,7 @@ async function start(instance: Instance): Promise<Running> {
   return { instance, env, app, pidFile }
 }
 
-async function stop(running: Running) {
+export async function stop(running: Running) {
   const { app, env } = running
   if (app.exitCode === null) {
     const exited = new Promise((resolve) => app.once('exit', resolve))
