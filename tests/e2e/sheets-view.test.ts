@@ -214,6 +214,10 @@ describe('the print view', () => {
       expect(await page.$('[data-testid=sign-out]')).toBeNull()
       expect(await page.$('nav[aria-label=Main]')).toBeNull()
       for (const section of sections) expect(await page.$(`[data-section=${section}]`), section).not.toBeNull()
+      // The loop diagram is drawn from the stored structure, one labelled box per block.
+      expect(await page.$('[data-section=loop-diagram] [data-testid=loop-diagram] svg')).not.toBeNull()
+      const diagram = await textOf(page, '[data-section=loop-diagram] [data-testid=loop-diagram]')
+      for (const id of detail.body.revision.document.blockOrder) expect(diagram).toContain(detail.body.revision.document.loop.blocks[id]!.label ?? id)
       const titleBlock = await textOf(page, '[data-testid=title-block]')
       for (const text of [detail.body.firm.name, detail.body.projectNumber, detail.body.projectName, detail.body.clientName, detail.body.number, detail.body.title, tag, 'Draft'])
         expect(titleBlock).toContain(text)
