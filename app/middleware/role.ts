@@ -8,8 +8,9 @@ export default defineNuxtRouteMiddleware(async (to) => {
   const { hasRole } = useCurrentPerson()
   if (!hasRole(...wanted)) {
     if (shouldReport(to.path)) {
-      // useRequestFetch carries the person's cookie when the page is rendered on the server.
-      await useRequestFetch()('/api/audit/page-refusals', { method: 'POST', body: { page: to.path, roles: wanted } }).catch(() => {
+      // useRequestFetch carries the person's cookie when the page is rendered on the server. The server records
+      // the roles of the session, so none are sent.
+      await useRequestFetch()('/api/audit/page-refusals', { method: 'POST', body: { page: to.path } }).catch(() => {
         // The refusal stands even when it could not be recorded; the server's own refusals are still audited.
       })
     }

@@ -1,10 +1,11 @@
 // The append-only audit trail: recording events and the admins' paged list.
-import { and, asc, desc, eq, ilike, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, sql, type SQL } from 'drizzle-orm'
 import type { z } from 'zod'
 import { auditEvents, people } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { auditQuerySchema, AuditRow } from '../../shared/schemas/audit'
 import type { Page } from '../../shared/schemas/lists'
+import { matchesTerm } from './search'
 
 /** Who acted and through which request. */
 export interface AuditContext {
@@ -38,17 +39,7 @@ export async function recordAuditEvent(db: Pick<Database, 'insert'>, context: Au
 
 export async function listAuditEvents(db: Database, query: z.output<typeof auditQuerySchema>): Promise<Page<AuditRow>> {
   const filters: SQL[] = []
-  if (query.q) {
-    const pattern = `%${query.q}%`
-    filters.push(
-      or(
-        ilike(auditEvents.action, pattern),
-        ilike(auditEvents.path, pattern),
-        ilike(people.name, pattern),
-        ilike(people.email, pattern),
-      )!,
-    )
-  }
+  if (query.q) filters.push(matchesTerm(query.q, [auditEvents.action, auditEvents.path, people.name, people.email]))
   const where = filters.length ? and(...filters) : undefined
   const order = query.dir === 'desc' ? [desc(auditEvents.at), desc(auditEvents.id)] : [asc(auditEvents.at), asc(auditEvents.id)]
   const [rows, [counted]] = await Promise.all([

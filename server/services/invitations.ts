@@ -5,7 +5,8 @@ import { and, eq, isNull, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import { invitations, people } from '../db/schema'
 import type { Database } from '../utils/db'
-import { recordAuditEvent, type AuditContext } from './audit-trail'
+import type { AuditContext } from './audit-trail'
+import { audited, type Executor } from './audited'
 
 export const invitationDays = 7
 
@@ -14,7 +15,7 @@ function hashToken(token: string): string {
 }
 
 /** Returns the token to put in the link; it is not stored. */
-export async function createInvitation(db: Database, personId: number, invitedBy: number | null): Promise<string> {
+export async function createInvitation(db: Executor, personId: number, invitedBy: number | null): Promise<string> {
   const token = randomBytes(32).toString('base64url')
   await db.insert(invitations).values({
     personId,
@@ -52,7 +53,8 @@ export async function readInvitation(db: Database, token: string): Promise<{ nam
 /** Sets the person's password and spends the token. `passwordHash` comes from nuxt-auth-utils' hashPassword. */
 export async function acceptInvitation(db: Database, token: string, passwordHash: string, context: AuditContext): Promise<void> {
   const invitation = await openInvitation(db, token)
-  await db.transaction(async (tx) => {
+  const entry = { action: 'invitation.accepted', subjectType: 'person', subjectId: invitation.personId }
+  await audited(db, { ...context, actorId: invitation.personId }, entry, async (tx) => {
     // Spending the token and setting the password happen together, or not at all; a second use finds used_at set.
     const spent = await tx
       .update(invitations)
@@ -61,10 +63,5 @@ export async function acceptInvitation(db: Database, token: string, passwordHash
       .returning({ id: invitations.id })
     if (spent.length === 0) throw createError({ statusCode: 404, statusMessage: 'This invitation link is unknown or already used' })
     await tx.update(people).set({ passwordHash }).where(eq(people.id, invitation.personId))
-    await recordAuditEvent(tx, { ...context, actorId: invitation.personId }, {
-      action: 'invitation.accepted',
-      subjectType: 'person',
-      subjectId: invitation.personId,
-    })
   })
 }

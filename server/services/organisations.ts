@@ -1,12 +1,14 @@
 // Client organisations: the admins' paged list and creation.
-import { asc, desc, eq, ilike, sql } from 'drizzle-orm'
+import { asc, desc, eq, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import type { z } from 'zod'
 import { organisations, people, projects } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { OrganisationBody, OrganisationRow, organisationsQuerySchema } from '../../shared/schemas/organisations'
 import type { Page } from '../../shared/schemas/lists'
-import { recordAuditEvent, type AuditContext } from './audit-trail'
+import type { AuditContext } from './audit-trail'
+import { audited } from './audited'
+import { matchesTerm } from './search'
 
 // Written out in full: drizzle leaves a column unqualified in a single-table select, and inside these
 // subqueries a bare "id" would name the subquery's own table.
@@ -25,7 +27,7 @@ function toRow(row: Omit<OrganisationRow, 'createdAt'> & { createdAt: Date }): O
 }
 
 export async function listOrganisations(db: Database, query: z.output<typeof organisationsQuerySchema>): Promise<Page<OrganisationRow>> {
-  const where = query.q ? ilike(organisations.name, `%${query.q}%`) : undefined
+  const where = query.q ? matchesTerm(query.q, [organisations.name]) : undefined
   const column = { name: organisations.name, createdAt: organisations.createdAt }[query.sort]
   const direction = query.dir === 'desc' ? desc : asc
   const [rows, [counted]] = await Promise.all([
@@ -42,9 +44,16 @@ export async function listOrganisations(db: Database, query: z.output<typeof org
 }
 
 export async function createOrganisation(db: Database, body: OrganisationBody, context: AuditContext): Promise<OrganisationRow> {
-  const [created] = await db.insert(organisations).values({ name: body.name }).onConflictDoNothing().returning({ id: organisations.id })
-  if (!created) throw createError({ statusCode: 409, statusMessage: 'A client organisation of this name already exists' })
-  await recordAuditEvent(db, context, { action: 'organisation.created', subjectType: 'organisation', subjectId: created.id, detail: { name: body.name } })
-  const [row] = await db.select(rowColumns).from(organisations).where(eq(organisations.id, created.id))
+  const id = await audited(
+    db,
+    context,
+    (id: number) => ({ action: 'organisation.created', subjectType: 'organisation', subjectId: id, detail: { name: body.name } }),
+    async (tx) => {
+      const [created] = await tx.insert(organisations).values({ name: body.name }).onConflictDoNothing().returning({ id: organisations.id })
+      if (!created) throw createError({ statusCode: 409, statusMessage: 'A client organisation of this name already exists' })
+      return created.id
+    },
+  )
+  const [row] = await db.select(rowColumns).from(organisations).where(eq(organisations.id, id))
   return toRow(row!)
 }

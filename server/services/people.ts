@@ -1,5 +1,5 @@
 // People: the admins' paged list, invitations by e-mail, and changes of name, roles and active flag.
-import { and, asc, desc, eq, ilike, isNotNull, isNull, notInArray, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, isNotNull, isNull, notInArray, sql, type SQL } from 'drizzle-orm'
 import { createError } from 'h3'
 import type { z } from 'zod'
 import { organisations, people, projectMembers } from '../db/schema'
@@ -7,7 +7,9 @@ import type { Database } from '../utils/db'
 import type { InviteBody, PersonRow, PersonUpdateBody, peopleQuerySchema } from '../../shared/schemas/people'
 import type { Page } from '../../shared/schemas/lists'
 import type { Role } from '../../shared/schemas/roles'
-import { recordAuditEvent, type AuditContext } from './audit-trail'
+import type { AuditContext } from './audit-trail'
+import { audited } from './audited'
+import { matchesTerm } from './search'
 import { createInvitation } from './invitations'
 import type { SendMail } from './outgoing-mail'
 
@@ -44,7 +46,7 @@ export async function findPersonRow(db: Database, id: number): Promise<PersonRow
 
 export async function listPeople(db: Database, query: z.output<typeof peopleQuerySchema>): Promise<Page<PersonRow>> {
   const filters: SQL[] = []
-  if (query.q) filters.push(or(ilike(people.name, `%${query.q}%`), ilike(people.email, `%${query.q}%`))!)
+  if (query.q) filters.push(matchesTerm(query.q, [people.name, people.email]))
   if (query.role) filters.push(sql`${people.roles} @> array[${query.role}]::text[]`)
   if (query.status === 'deactivated') filters.push(eq(people.active, false))
   if (query.status === 'invited') filters.push(and(eq(people.active, true), isNull(people.passwordHash))!)
@@ -84,24 +86,27 @@ export async function invitePerson(
       })
     }
   }
-  const { personId, token } = await db.transaction(async (tx) => {
-    const [created] = await tx
-      .insert(people)
-      .values({ name: body.name, email: body.email, roles: body.roles, organisationId })
-      .onConflictDoNothing()
-      .returning({ id: people.id })
-    if (!created) {
-      throw createError({ statusCode: 409, statusMessage: 'Someone with this e-mail address already has an account' })
-    }
-    const token = await createInvitation(tx as unknown as Database, created.id, context.actorId)
-    await recordAuditEvent(tx, context, {
+  const { personId, token } = await audited(
+    db,
+    context,
+    ({ personId }: { personId: number }) => ({
       action: 'person.invited',
       subjectType: 'person',
-      subjectId: created.id,
+      subjectId: personId,
       detail: { email: body.email, roles: body.roles },
-    })
-    return { personId: created.id, token }
-  })
+    }),
+    async (tx) => {
+      const [created] = await tx
+        .insert(people)
+        .values({ name: body.name, email: body.email, roles: body.roles, organisationId })
+        .onConflictDoNothing()
+        .returning({ id: people.id })
+      if (!created) {
+        throw createError({ statusCode: 409, statusMessage: 'Someone with this e-mail address already has an account' })
+      }
+      return { personId: created.id, token: await createInvitation(tx, created.id, context.actorId) }
+    },
+  )
   const link = `${invitation.siteUrl.replace(/\/$/, '')}/invitation/${token}`
   await invitation.send({
     to: body.email,
@@ -132,27 +137,10 @@ export async function updatePerson(db: Database, id: number, body: PersonUpdateB
   }
   const rolesChanged = body.roles !== undefined && [...body.roles].sort().join() !== [...person.roles].sort().join()
   const activeChanged = body.active !== undefined && body.active !== person.active
-  await db.transaction(async (tx) => {
-    await tx
-      .update(people)
-      .set({
-        ...(body.name !== undefined && { name: body.name }),
-        ...(body.roles !== undefined && { roles: body.roles }),
-        ...(body.active !== undefined && { active: body.active }),
-        // Live sessions compare this number on every request (server/middleware/active-person.ts).
-        ...((rolesChanged || activeChanged) && { sessionVersion: person.sessionVersion + 1 }),
-      })
-      .where(eq(people.id, id))
-    let removedMemberships: string[] = []
-    if (rolesChanged) {
-      // A project role needs the matching global role: memberships whose role the person lost are ended.
-      const removed = await tx
-        .delete(projectMembers)
-        .where(and(eq(projectMembers.personId, id), notInArray(projectMembers.role, body.roles!)))
-        .returning({ projectId: projectMembers.projectId, role: projectMembers.role })
-      removedMemberships = removed.map((row) => `${row.projectId}:${row.role}`)
-    }
-    await recordAuditEvent(tx, context, {
+  await audited(
+    db,
+    context,
+    (removedMemberships: string[]) => ({
       action: activeChanged ? (body.active ? 'person.reactivated' : 'person.deactivated') : 'person.updated',
       subjectType: 'person',
       subjectId: id,
@@ -161,7 +149,26 @@ export async function updatePerson(db: Database, id: number, body: PersonUpdateB
         ...(rolesChanged && { roles: { from: person.roles, to: body.roles } }),
         ...(removedMemberships.length > 0 && { removedMemberships }),
       },
-    })
-  })
+    }),
+    async (tx) => {
+      await tx
+        .update(people)
+        .set({
+          ...(body.name !== undefined && { name: body.name }),
+          ...(body.roles !== undefined && { roles: body.roles }),
+          ...(body.active !== undefined && { active: body.active }),
+          // Live sessions compare this number on every request (server/middleware/active-person.ts).
+          ...((rolesChanged || activeChanged) && { sessionVersion: person.sessionVersion + 1 }),
+        })
+        .where(eq(people.id, id))
+      if (!rolesChanged) return []
+      // A project role needs the matching global role: memberships whose role the person lost are ended.
+      const removed = await tx
+        .delete(projectMembers)
+        .where(and(eq(projectMembers.personId, id), notInArray(projectMembers.role, body.roles!)))
+        .returning({ projectId: projectMembers.projectId, role: projectMembers.role })
+      return removed.map((row) => `${row.projectId}:${row.role}`)
+    },
+  )
   return (await findPersonRow(db, id))!
 }

@@ -1,6 +1,6 @@
 // Projects and their members. Admins see every project; everyone else sees the projects they are a member of.
 // A member's project role needs the matching global role, and a client member belongs to the project's client.
-import { and, asc, desc, eq, ilike, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, sql, type SQL } from 'drizzle-orm'
 import { createError } from 'h3'
 import type { z } from 'zod'
 import { organisations, people, projectMembers, projects } from '../db/schema'
@@ -8,7 +8,9 @@ import type { Database } from '../utils/db'
 import type { MemberBody, ProjectBody, ProjectDetail, ProjectMember, ProjectRow, projectsQuerySchema } from '../../shared/schemas/projects'
 import type { Page } from '../../shared/schemas/lists'
 import type { Role } from '../../shared/schemas/roles'
-import { recordAuditEvent, type AuditContext } from './audit-trail'
+import type { AuditContext } from './audit-trail'
+import { audited, type Executor } from './audited'
+import { matchesTerm } from './search'
 
 export interface Viewer {
   id: number
@@ -49,10 +51,7 @@ function invalidField(field: string, message: string): never {
 export async function listProjects(db: Database, query: z.output<typeof projectsQuerySchema>, viewer: Viewer): Promise<Page<ProjectRow>> {
   const filters: SQL[] = []
   if (!viewer.roles.includes('admin')) filters.push(memberOf(viewer))
-  if (query.q) {
-    const pattern = `%${query.q}%`
-    filters.push(or(ilike(projects.number, pattern), ilike(projects.name, pattern), ilike(organisations.name, pattern))!)
-  }
+  if (query.q) filters.push(matchesTerm(query.q, [projects.number, projects.name, organisations.name]))
   const where = filters.length ? and(...filters) : undefined
   const column = { number: projects.number, name: projects.name, createdAt: projects.createdAt }[query.sort]
   const direction = query.dir === 'desc' ? desc : asc
@@ -74,7 +73,7 @@ export async function listProjects(db: Database, query: z.output<typeof projects
   return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
 }
 
-async function projectDetail(db: Database, id: number): Promise<ProjectDetail | null> {
+async function projectDetail(db: Executor, id: number): Promise<ProjectDetail | null> {
   const [row] = await db
     .select(rowColumns)
     .from(projects)
@@ -101,19 +100,26 @@ export async function viewProject(db: Database, id: number, viewer: Viewer): Pro
 export async function createProject(db: Database, body: ProjectBody, context: AuditContext): Promise<ProjectDetail> {
   const [client] = await db.select().from(organisations).where(eq(organisations.id, body.organisationId))
   if (!client) invalidField('organisationId', 'This client organisation does not exist')
-  const [created] = await db
-    .insert(projects)
-    .values({ number: body.number, name: body.name, organisationId: body.organisationId })
-    .onConflictDoNothing()
-    .returning({ id: projects.id })
-  if (!created) throw createError({ statusCode: 409, statusMessage: `Project number ${body.number} is already taken` })
-  await recordAuditEvent(db, context, {
-    action: 'project.created',
-    subjectType: 'project',
-    subjectId: created.id,
-    detail: { number: body.number, name: body.name, organisationId: body.organisationId },
-  })
-  return (await projectDetail(db, created.id))!
+  const id = await audited(
+    db,
+    context,
+    (id: number) => ({
+      action: 'project.created',
+      subjectType: 'project',
+      subjectId: id,
+      detail: { number: body.number, name: body.name, organisationId: body.organisationId },
+    }),
+    async (tx) => {
+      const [created] = await tx
+        .insert(projects)
+        .values({ number: body.number, name: body.name, organisationId: body.organisationId })
+        .onConflictDoNothing()
+        .returning({ id: projects.id })
+      if (!created) throw createError({ statusCode: 409, statusMessage: `Project number ${body.number} is already taken` })
+      return created.id
+    },
+  )
+  return (await projectDetail(db, id))!
 }
 
 export async function addMember(db: Database, projectId: number, body: MemberBody, context: AuditContext): Promise<ProjectDetail> {
@@ -126,28 +132,27 @@ export async function addMember(db: Database, projectId: number, body: MemberBod
   if (body.role === 'client' && person.organisationId !== project.organisationId) {
     invalidField('personId', `A client member belongs to ${project.organisationName}`)
   }
-  const added = await db.insert(projectMembers).values({ projectId, personId: person.id, role: body.role }).onConflictDoNothing().returning()
-  if (added.length === 0) throw createError({ statusCode: 409, statusMessage: 'This person already holds that role on the project' })
-  await recordAuditEvent(db, context, {
-    action: 'project.member-added',
-    subjectType: 'project',
-    subjectId: projectId,
-    detail: { personId: person.id, role: body.role },
+  const entry = { action: 'project.member-added', subjectType: 'project', subjectId: projectId, detail: { personId: person.id, role: body.role } }
+  await audited(db, context, entry, async (tx) => {
+    const added = await tx.insert(projectMembers).values({ projectId, personId: person.id, role: body.role }).onConflictDoNothing().returning()
+    if (added.length === 0) throw createError({ statusCode: 409, statusMessage: 'This person already holds that role on the project' })
   })
   return (await projectDetail(db, projectId))!
 }
 
 export async function removeMember(db: Database, projectId: number, personId: number, context: AuditContext): Promise<ProjectDetail> {
-  const removed = await db
-    .delete(projectMembers)
-    .where(and(eq(projectMembers.projectId, projectId), eq(projectMembers.personId, personId)))
-    .returning({ role: projectMembers.role })
-  if (removed.length === 0) throw createError({ statusCode: 404, statusMessage: 'This person is not a member of the project' })
-  await recordAuditEvent(db, context, {
-    action: 'project.member-removed',
-    subjectType: 'project',
-    subjectId: projectId,
-    detail: { personId, roles: removed.map((row) => row.role) },
-  })
+  await audited(
+    db,
+    context,
+    (roles: string[]) => ({ action: 'project.member-removed', subjectType: 'project', subjectId: projectId, detail: { personId, roles } }),
+    async (tx) => {
+      const removed = await tx
+        .delete(projectMembers)
+        .where(and(eq(projectMembers.projectId, projectId), eq(projectMembers.personId, personId)))
+        .returning({ role: projectMembers.role })
+      if (removed.length === 0) throw createError({ statusCode: 404, statusMessage: 'This person is not a member of the project' })
+      return removed.map((row) => row.role)
+    },
+  )
   return (await projectDetail(db, projectId))!
 }

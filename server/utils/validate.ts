@@ -2,7 +2,7 @@
 // Bad input answers 400 with `data.issues` = zod's flattened errors ({ formErrors, fieldErrors }), which
 // the forms show beside their fields (DEVELOPERS.md, "API").
 import { z, type ZodTypeAny } from 'zod'
-import { MAX_ID } from '../../shared/schemas/text'
+import { idText } from '../../shared/schemas/text'
 
 /** A validator for h3's readValidatedBody / getValidatedQuery / getValidatedRouterParams. */
 export function parseWith<S extends ZodTypeAny>(schema: S) {
@@ -34,6 +34,6 @@ export function parseNamingField<S extends ZodTypeAny>(schema: S) {
   }
 }
 
-/** Route parameter `[id]` (and `[personId]`): a positive integer that fits PostgreSQL's integer. */
-export const idParams = z.object({ id: z.coerce.number().int().positive().max(MAX_ID) })
-export const memberParams = idParams.extend({ personId: z.coerce.number().int().positive().max(MAX_ID) })
+/** Route parameter `[id]` (and `[personId]`): a positive 32-bit integer written in decimal digits. */
+export const idParams = z.object({ id: idText })
+export const memberParams = idParams.extend({ personId: idText })

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { listQuerySchema } from './lists'
+import { storable } from './text'
 
 /** GET /api/audit */
 export const auditQuerySchema = listQuerySchema(['at'] as const)
@@ -23,8 +24,10 @@ export interface AuditRow {
   detail: Record<string, unknown>
 }
 
-/** POST /api/audit/page-refusals: the screen reports a page it refused to open (app/middleware/role.ts). */
+/**
+ * POST /api/audit/page-refusals: the screen reports a page it refused to open (app/middleware/role.ts).
+ * The roles are not the screen's to claim: the server records those of the session.
+ */
 export const pageRefusalSchema = z.object({
-  page: z.string().trim().min(1).max(300).startsWith('/'),
-  roles: z.array(z.string().trim().min(1).max(40)).max(10),
+  page: storable(z.string().trim().min(1).max(300).startsWith('/')),
 })

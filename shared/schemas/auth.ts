@@ -1,29 +1,34 @@
 import { z } from 'zod'
+import { storable } from './text'
 
-export const emailSchema = z
-  .string({ required_error: 'Enter an e-mail address' })
-  .trim()
-  .toLowerCase()
-  .min(1, 'Enter an e-mail address')
-  .max(254, 'An e-mail address has at most 254 characters')
-  .email('Enter a valid e-mail address')
+export const emailSchema = storable(
+  z
+    .string({ required_error: 'Enter an e-mail address' })
+    .trim()
+    .toLowerCase()
+    .min(1, 'Enter an e-mail address')
+    .max(254, 'An e-mail address has at most 254 characters')
+    .email('Enter a valid e-mail address'),
+)
 
 /** POST /api/auth/login */
 export const loginSchema = z.object({
   email: emailSchema,
-  password: z.string({ required_error: 'Enter your password' }).min(1, 'Enter your password').max(200),
+  password: storable(z.string({ required_error: 'Enter your password' }).min(1, 'Enter your password').max(200)),
 })
 export type LoginBody = z.infer<typeof loginSchema>
 
-/** A new password, as chosen on the invitation page. */
-export const passwordSchema = z
-  .string({ required_error: 'Choose a password' })
-  .min(10, 'A password has at least 10 characters')
-  .max(200, 'A password has at most 200 characters')
+/** A new password, as chosen on the invitation page. (A lone surrogate would be hashed as U+FFFD, so it is refused.) */
+export const passwordSchema = storable(
+  z
+    .string({ required_error: 'Choose a password' })
+    .min(10, 'A password has at least 10 characters')
+    .max(200, 'A password has at most 200 characters'),
+)
 
 /** POST /api/invitations/[token] */
 export const acceptInvitationSchema = z
-  .object({ password: passwordSchema, confirm: z.string() })
+  .object({ password: passwordSchema, confirm: z.string().max(200) })
   .refine((body) => body.password === body.confirm, {
     message: 'The two passwords differ',
     path: ['confirm'],

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { MAX_BLOCKS, MAX_PADE_ORDER } from '../calc/limits'
+import { isStorableText, recordKey, storable, storableTextMessage } from './text'
 
 /**
  * The loop file of calc-contract.md. Forms (vee-validate), the API route and
@@ -42,11 +43,11 @@ const finite = (what: string) =>
 export const parameterSchema = z
   .object({
     value: finite('value'),
-    unit: z.string().max(40).optional(),
+    unit: storable(z.string().max(40)).optional(),
     min: finite('minimum').optional(),
     max: finite('maximum').optional(),
-    tex: z.string().min(1, 'Enter how the symbol is typeset, or leave it out').max(200).optional(),
-    note: z.string().max(2000).optional(),
+    tex: storable(z.string().min(1, 'Enter how the symbol is typeset, or leave it out').max(200)).optional(),
+    note: storable(z.string().max(2000)).optional(),
   })
   .superRefine((p, ctx) => {
     if (p.min !== undefined && p.max !== undefined && p.min > p.max)
@@ -59,11 +60,13 @@ export const parameterSchema = z
 export type LoopParameter = z.infer<typeof parameterSchema>
 
 const expressionText = (what: string) =>
-  z.string({ required_error: `Enter the ${what}`, invalid_type_error: `The ${what} must be text` }).trim().min(1, `Enter the ${what}`).max(4000)
+  storable(
+    z.string({ required_error: `Enter the ${what}`, invalid_type_error: `The ${what} must be text` }).trim().min(1, `Enter the ${what}`).max(4000),
+  )
 
 export const blockSchema = z.object({
   role: z.enum(blockRoles, { errorMap: () => ({ message: `Choose a role: ${blockRoles.join(', ')}` }) }),
-  label: z.string().max(200).optional(),
+  label: storable(z.string().max(200)).optional(),
   num: expressionText('numerator'),
   den: expressionText('denominator').default('1'),
   delay: expressionText('dead time').optional(),
@@ -83,6 +86,7 @@ type Path = Array<string | number>
 function checkNode(node: unknown, path: Path, blocks: Set<string> | null, ctx: z.RefinementCtx): void {
   const fail = (message: string, at: Path = path) => ctx.addIssue({ code: 'custom', path: at, message })
   if (typeof node === 'string') {
+    if (!isStorableText(node)) return fail(storableTextMessage)
     if (blocks && !blocks.has(node)) fail(`block "${node}" is named here but not defined in blocks`)
     return
   }
@@ -136,9 +140,9 @@ const criterionSchema = z
 
 export const loopFileSchema = z
   .object({
-    title: z.string().max(300).optional(),
+    title: storable(z.string().max(300)).optional(),
     parameters: z
-      .record(z.string(), parameterSchema)
+      .record(recordKey, parameterSchema)
       .default({})
       .superRefine((params, ctx) => {
         for (const symbol of Object.keys(params)) {
@@ -147,7 +151,7 @@ export const loopFileSchema = z
         }
       }),
     blocks: z
-      .record(z.string(), blockSchema)
+      .record(recordKey, blockSchema)
       .superRefine((blocks, ctx) => {
         const ids = Object.keys(blocks)
         if (ids.length === 0) ctx.addIssue({ code: 'custom', path: [], message: 'define at least one block' })
@@ -172,14 +176,14 @@ export const loopFileSchema = z
       .object({
         stability_range: z
           .object({
-            parameter: z.string({ required_error: 'Choose the parameter to sweep' }),
+            parameter: storable(z.string({ required_error: 'Choose the parameter to sweep' }).max(60)),
             search: z.tuple([finite('lower end'), finite('upper end')]).refine(([lo, hi]) => lo < hi, 'the lower end of the search is below the upper end'),
           })
           .optional(),
       })
       .default({}),
     criteria: z
-      .record(z.string(), criterionSchema)
+      .record(recordKey, criterionSchema)
       .default({})
       .superRefine((criteria, ctx) => {
         for (const [name, c] of Object.entries(criteria)) {

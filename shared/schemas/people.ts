@@ -1,22 +1,25 @@
 import { z } from 'zod'
 import { emailSchema } from './auth'
-import { roleSchema } from './roles'
+import { roles, roleSchema } from './roles'
 import { listQuerySchema } from './lists'
+import { idSchema, storable } from './text'
 
-export const personNameSchema = z
-  .string({ required_error: 'Enter the person’s name' })
-  .trim()
-  .min(2, 'A name has at least 2 characters')
-  .max(120, 'A name has at most 120 characters')
+export const personNameSchema = storable(
+  z
+    .string({ required_error: 'Enter the person’s name' })
+    .trim()
+    .min(2, 'A name has at least 2 characters')
+    .max(120, 'A name has at most 120 characters'),
+)
 
 /** POST /api/people/invite: the admin's invitation form. */
 export const inviteSchema = z
   .object({
     name: personNameSchema,
     email: emailSchema,
-    roles: z.array(roleSchema).min(1, 'Choose at least one role'),
+    roles: z.array(roleSchema).min(1, 'Choose at least one role').max(roles.length),
     /** Required when `roles` holds `client`: the person's client organisation. */
-    organisationId: z.number().int().positive().nullable().optional(),
+    organisationId: idSchema.nullable().optional(),
   })
   .refine((body) => !body.roles.includes('client') || body.organisationId, {
     message: 'A client contact belongs to a client organisation',
@@ -27,7 +30,7 @@ export type InviteBody = z.infer<typeof inviteSchema>
 /** PATCH /api/people/[id] */
 export const personUpdateSchema = z
   .object({
-    roles: z.array(roleSchema).min(1, 'Choose at least one role').optional(),
+    roles: z.array(roleSchema).min(1, 'Choose at least one role').max(roles.length).optional(),
     active: z.boolean().optional(),
     name: personNameSchema.optional(),
   })

@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { listQuerySchema } from './lists'
 import { projectRoleSchema } from './roles'
+import { idField, storable } from './text'
 
 /** POST /api/projects */
 export const projectSchema = z.object({
@@ -10,18 +11,20 @@ export const projectSchema = z.object({
     .min(1, 'Enter the project number')
     .max(40, 'A project number has at most 40 characters')
     .regex(/^[A-Za-z0-9][A-Za-z0-9._/-]*$/, 'Use letters, digits and . _ / - only'),
-  name: z
-    .string({ required_error: 'Enter the project name' })
-    .trim()
-    .min(2, 'A name has at least 2 characters')
-    .max(200, 'A name has at most 200 characters'),
-  organisationId: z.number({ required_error: 'Choose the client', invalid_type_error: 'Choose the client' }).int().positive(),
+  name: storable(
+    z
+      .string({ required_error: 'Enter the project name' })
+      .trim()
+      .min(2, 'A name has at least 2 characters')
+      .max(200, 'A name has at most 200 characters'),
+  ),
+  organisationId: idField('Choose the client'),
 })
 export type ProjectBody = z.infer<typeof projectSchema>
 
 /** POST /api/projects/[id]/members */
 export const memberSchema = z.object({
-  personId: z.number({ required_error: 'Choose a person', invalid_type_error: 'Choose a person' }).int().positive(),
+  personId: idField('Choose a person'),
   role: projectRoleSchema,
 })
 export type MemberBody = z.infer<typeof memberSchema>

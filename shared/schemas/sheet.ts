@@ -1,6 +1,6 @@
 import { z } from 'zod'
 import { criterionBounds, loopFileSchema, type CriterionName, type LoopFile, type LoopFileInput } from './loop'
-import { plainText } from './text'
+import { plainText, recordKey } from './text'
 
 /**
  * The sheet document: everything an engineer writes on one revision of a calculation sheet, stored whole as one
@@ -15,7 +15,7 @@ export type SheetStatus = (typeof sheetStatuses)[number]
 
 /** One row of the parameter table beside the loop's numbers: what the symbol is and where its value comes from. */
 export const parameterDetailSchema = z.object({
-  symbol: z.string().max(60),
+  symbol: recordKey,
   description: plainText(300),
   source: plainText(1000),
 })
@@ -35,7 +35,7 @@ export const sheetDocumentSchema = z
     /** Every parameter of `loop.parameters` once, in print order. */
     parameters: z.array(parameterDetailSchema).max(200).default([]),
     /** Every block id of `loop.blocks` once, in print order. */
-    blockOrder: z.array(z.string().max(60)).max(64).default([]),
+    blockOrder: z.array(recordKey).max(64).default([]),
     scope: plainText(20_000).default(''),
     references: z.array(referenceSchema).max(100).default([]),
     assumptions: z.array(plainText(2000, 1, 'Enter the assumption, or remove it')).max(100).default([]),

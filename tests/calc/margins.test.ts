@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import { describe, expect, it } from 'vitest'
 import { frequencyResponse } from '#shared/calc/frequency'
+import { brentZero, polishCrossing, polishCrossings } from '#shared/calc/crossing'
 import { stabilityMargins } from '#shared/calc/margins'
 import type { Complex, OpenLoop } from '#shared/calc/types'
 
@@ -181,5 +182,28 @@ describe('frequencyResponse', () => {
     const r = frequencyResponse(openLoop([1], [1, 3, 2, 0]))
     r.w.forEach((w, i) => expect(r.phase_deg[i]).toBeCloseTo(-90 - ((Math.atan(w) + Math.atan(w / 2)) * 180) / Math.PI, 9))
     expect(r.phase_deg[r.phase_deg.length - 1]).toBeLessThan(-260)
+  })
+})
+
+describe('brentZero and polishCrossing', () => {
+  it('finds the zero of cos x − x on a bracket to rounding level', () => {
+    // Source: the fixed point of cos, 0.7390851332151607 (a well-known constant; from memory), checked by its own definition.
+    const f = (x: number) => Math.cos(x) - x
+    const x = brentZero(f, 0, 1, f(0), f(1))
+    expect(Math.abs(x - 0.7390851332151607)).toBeLessThan(1e-15)
+    expect(Math.abs(f(x))).toBeLessThan(1e-15)
+  })
+
+  it('polishes a candidate onto its own crossing, never a neighbour, and drops a candidate with no crossing nearby', () => {
+    // Source: closed form: sin(ln ω) is zero at ω = e^{kπ}; a candidate 1 % off e^{π} polishes onto e^{π}.
+    const f = (w: number) => Math.sin(Math.log(w))
+    const polished = polishCrossing(f, Math.exp(Math.PI) * 1.01, Math.exp(Math.PI / 2), Math.exp((3 * Math.PI) / 2))
+    expect(Math.abs((polished as number) - Math.exp(Math.PI))).toBeLessThan(1e-13 * Math.exp(Math.PI))
+    // 1 + ω² never reaches zero: no crossing, so null.
+    expect(polishCrossing((w) => 1 + w * w, 2, 1, 4)).toBeNull()
+    // The list form merges duplicates and drops the candidate without a crossing.
+    const list = polishCrossings(f, [Math.exp(Math.PI) * 0.999, Math.exp(Math.PI) * 1.002, Math.exp(Math.PI / 2)], 1e-9)
+    expect(list).toHaveLength(1)
+    expect(Math.abs(list[0]! - Math.exp(Math.PI))).toBeLessThan(1e-13 * Math.exp(Math.PI))
   })
 })

@@ -58,7 +58,7 @@ function tidy(x: number): number {
   return Number(x.toPrecision(3))
 }
 
-class LoopBuilder {
+export class LoopBuilder {
   readonly parameters: Record<string, RandomLoopParameter> = {}
   readonly blocks: Record<string, RandomLoopBlock> = {}
   private counters: Record<string, number> = {}

@@ -28,6 +28,26 @@ export class Client {
     return { status: answer.status, body: text ? JSON.parse(text) : null, headers: answer.headers }
   }
 
+  /** A request with a body sent as the text given (not JSON-encoded), to try what the server makes of it. */
+  async raw<T = any>(method: string, path: string, text: string | undefined, contentType = 'application/json'): Promise<Answer<T>> {
+    const answer = await fetch(`${inject('baseUrl')}${path}`, {
+      method,
+      headers: { 'content-type': contentType, ...(this.cookie ? { cookie: this.cookie } : {}) },
+      body: text,
+      redirect: 'manual',
+    })
+    const setCookie = answer.headers.get('set-cookie')
+    if (setCookie) this.cookie = setCookie.split(';')[0]!.endsWith('=') ? '' : setCookie.split(';')[0]!
+    const body = await answer.text()
+    let parsed: unknown = body
+    try {
+      parsed = body ? JSON.parse(body) : null
+    } catch {
+      // not JSON: the text itself
+    }
+    return { status: answer.status, body: parsed as T, headers: answer.headers }
+  }
+
   get<T = any>(path: string) {
     return this.request<T>('GET', path)
   }
