@@ -1,0 +1,103 @@
+// Line breaking of the engine's TeX for paper (Tex.vue, `fit`). KaTeX never breaks a display formula, and
+// nothing breaks inside a fraction; so a formula too wide for its column is set as an `aligned` block with
+// breaks only where the sum or the chain of equations is at its top level: before a top-level = or ≈ and
+// before a top-level + or − sign, a continued line indented by a quad, as typeset derivations are set in
+// print (common practice). The engine's TeX is kept character for character between the breaks.
+
+const RELATIONS = [' = ', ' \\approx ']
+const SIGNS = [' + ', ' - ']
+const LISTS = [', \\qquad ', ', \\quad ']
+
+interface Piece {
+  /** What joins this piece to the one before ('' for the first). */
+  joint: string
+  text: string
+}
+
+/** The formula cut at its top-level joints: outside every brace group and every \left … \right pair. */
+export function topLevelPieces(tex: string): Piece[] {
+  const pieces: Piece[] = []
+  let depth = 0
+  let start = 0
+  let joint = ''
+  for (let i = 0; i < tex.length; i++) {
+    const c = tex[i]!
+    if (c === '\\') {
+      const word = /^[a-zA-Z]+/.exec(tex.slice(i + 1))?.[0]
+      if (word === 'left') depth++
+      else if (word === 'right') depth--
+      // A control word is stepped over whole; an escaped character (\{ \, \;) with the backslash.
+      i += word ? word.length : 1
+      continue
+    }
+    if (c === '{') depth++
+    else if (c === '}') depth--
+    else if (depth === 0 && i > start) {
+      const found = [...RELATIONS, ...SIGNS, ...LISTS].find((candidate) => tex.startsWith(candidate, i))
+      if (found) {
+        pieces.push({ joint, text: tex.slice(start, i) })
+        joint = found
+        start = i + found.length
+        i = start - 1
+      }
+    }
+  }
+  pieces.push({ joint, text: tex.slice(start) })
+  return pieces
+}
+
+/** Roughly how wide a stretch of TeX sets, in characters: control words and grouping count as one or nothing. */
+export function visibleLength(tex: string) {
+  return tex.replace(/\\(left|right)\b/g, '').replace(/\\[a-zA-Z]+/g, 'x').replace(/[{}^_&\s]/g, '').length
+}
+
+/** Whether `breakTex` has anywhere to break this formula. */
+export function canBreak(tex: string) {
+  return !/\\begin|\\\\/.test(tex) && topLevelPieces(tex).length > 1
+}
+
+/**
+ * The formula as lines of at most about `budget` visible characters, broken at top-level joints only. A
+ * relation starts a new line aligned on it; a sign carries on the line until it is full.
+ */
+export function breakTex(tex: string, budget: number): string {
+  if (!canBreak(tex)) return tex
+  const pieces = topLevelPieces(tex)
+  const rows: string[] = []
+  let row = ''
+  let rowLength = 0
+  let aligned = false
+  for (const piece of pieces) {
+    const length = visibleLength(piece.text)
+    if (piece.joint === '') {
+      row = piece.text
+      rowLength = length
+    } else if (RELATIONS.includes(piece.joint)) {
+      const relation = piece.joint.trim()
+      if (!aligned) {
+        row = `${row} &${relation} ${piece.text}`
+        aligned = true
+      } else {
+        rows.push(row)
+        row = `&${relation} ${piece.text}`
+        rowLength = 0
+      }
+      rowLength += length + 1
+    } else if (LISTS.includes(piece.joint)) {
+      rows.push(`${row},`)
+      row = `& ${piece.text}`
+      rowLength = length
+    } else if (rowLength + length + 1 > budget && rowLength > 0) {
+      rows.push(row)
+      row = `&\\quad ${piece.joint.trim()} ${piece.text}`
+      rowLength = length + 2
+    } else {
+      row = `${row}${piece.joint}${piece.text}`
+      rowLength += length + 1
+    }
+  }
+  rows.push(row)
+  if (rows.length === 1) return tex
+  // Rows before the first relation have no & of their own; give them one so every row aligns.
+  return `\\begin{aligned}${rows.map((text) => (text.includes('&') ? text : `& ${text}`)).join(' \\\\ ')}\\end{aligned}`
+}
