@@ -43,7 +43,9 @@ export const isRefused = (outcome: unknown): outcome is Refused =>
   typeof outcome === 'object' && outcome !== null && 'refused' in outcome && typeof (outcome as Refused).refused === 'string'
 
 /** The engine's answer to a document, as a save stores it. */
-export type Computation = { ok: true; result: unknown } | { ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine'; field?: string; message: string }
+export type Computation =
+  | { ok: true; result: unknown }
+  | { ok: false; kind: 'input' | 'timeout' | 'busy' | 'engine' | 'cancelled'; field?: string; message: string }
 export type Compute = (loopFileText: string) => Promise<Computation>
 
 /** Where templates come from (Nitro's server assets in the app; the files themselves in the seed and tests). */

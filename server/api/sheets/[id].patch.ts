@@ -9,5 +9,5 @@ export default defineEventHandler(async (event) => {
   const viewer = await requireRole(event)
   const { id } = await getValidatedRouterParams(event, parseWith(idParams))
   const body = await readValidatedBody(event, parseNamingField(sheetSaveSchema))
-  return unlessRefused(event, await saveSheet(useDb(), id, body, viewer, auditContext(event, viewer.id), calculateInPool))
+  return unlessRefused(event, await saveSheet(useDb(), id, body, viewer, auditContext(event, viewer.id), (text) => calculateInPool(text, String(viewer.id))))
 })

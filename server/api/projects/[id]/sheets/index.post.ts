@@ -7,7 +7,7 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, parseWith(idParams))
   const body = await readValidatedBody(event, parseNamingField(newSheetSchema))
   const created = await createSheet(useDb(), id, body, viewer, auditContext(event, viewer.id), {
-    compute: calculateInPool,
+    compute: (text) => calculateInPool(text, String(viewer.id)),
     readTemplate: readSheetTemplate,
   })
   const answer = await unlessRefused(event, created)
