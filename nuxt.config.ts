@@ -71,6 +71,10 @@ export default defineNuxtConfig({
     removeLoggers: false,
   },
   routeRules: {
+    // A dedicated worker (the sheet editor's live engine, app/workers/live-calc.ts) is refused by Chromium
+    // (ERR_BLOCKED_BY_RESPONSE) unless its script carries the page's Cross-Origin-Embedder-Policy; nuxt-security
+    // sets that policy on pages only, so the built scripts are given the same one here.
+    '/_nuxt/**': { headers: { 'cross-origin-embedder-policy': 'credentialless' } },
     // The route stops reading at its own limit and answers 413 naming `file` (the request guard).
     '/api/calculate': { security: { requestSizeLimiter: false } },
   },

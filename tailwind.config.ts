@@ -60,6 +60,7 @@ export default {
       fontFamily: {
         sans: ['"Noto Sans"', 'system-ui', 'sans-serif'],
         serif: ['"Noto Serif"', 'Georgia', 'serif'],
+        mono: ['"Noto Sans Mono"', 'ui-monospace', 'monospace'],
       },
       // A 1.2 ratio on a 15 px body: small enough for dense tables, calm for reading.
       fontSize: {

@@ -10,7 +10,9 @@
  * - the 8-lag loop no slower than sympy's bare expansion;
  * - cost growing with the size of the result, not faster: over 6 to 10 lags
  *   the log-log slope of engine time against the result's term count is at
- *   most 1.25 (1 is proportional; the slack is for timing noise).
+ *   most 1.25 (1 is proportional; the slack is for timing noise);
+ * - polynomial roots at degree 6 (called hundreds of times per tolerance sweep) well under a millisecond:
+ *   at most 0.25 ms each.
  * The bench always exits 0: a failed target is reported, not thrown.
  */
 import { spawnSync } from 'node:child_process'
@@ -21,6 +23,7 @@ import { setFlagsFromString } from 'node:v8'
 import { runInNewContext } from 'node:vm'
 import nerdamer from 'nerdamer'
 import { evaluateLoop } from '../shared/calc/index'
+import { polynomialRoots } from '../shared/calc/roots'
 
 const DEBIAN_PYTHON = '/usr/bin/python3'
 const SYMPY_SCRIPT = fileURLToPath(new URL('./bench-sympy.py', import.meta.url))
@@ -157,6 +160,17 @@ if (sympy) {
 } else {
   console.log(`\nsympy did not run, so no ratios and no growth check: ${sympyProblem}`)
   verdicts.push('8 lags no slower than sympy: FAIL (not measured)', 'growth with result size: FAIL (not measured)')
+}
+// Roots at degree 6: a warm-up, then the mean of 2,000 calls.
+{
+  const c = [1, 3, 5, 7, 6, 4, 1.2]
+  for (let i = 0; i < 200; i++) polynomialRoots(c)
+  const t0 = performance.now()
+  for (let i = 0; i < 2000; i++) polynomialRoots(c)
+  const each = (performance.now() - t0) / 2000
+  const pass = each <= 0.25
+  console.log(`roots at degree 6: ${(each * 1000).toFixed(1)} µs each (mean of 2,000)  ${pass ? 'PASS' : 'FAIL'} (at most 0.25 ms)`)
+  verdicts.push(`roots at degree 6: ${pass ? 'PASS' : 'FAIL'}`)
 }
 const mib = (b: number) => (b / 1024 / 1024).toFixed(1)
 console.log(`memory, ${largest.name}: heap grew ${mib(heapAfterRun - heapBefore)} MiB during one evaluation (lower bound), ${mib(heapRetained)} MiB retained after collection; peak RSS of the bench process ${peakRssMiB.toFixed(0)} MiB`)

@@ -185,8 +185,9 @@ describe('steps of the derivation', () => {
   })
 })
 
-describe('speed of the exact expansion', () => {
-  it('expands the 8-lag loop with symbolic time constants within 180 ms (sympy\'s figure here)', () => {
+// How fast it is measured by `npm run bench` (8 lags against sympy), never by a timed test.
+describe('the exact expansion of a long series', () => {
+  it('expands the 8-lag loop with symbolic time constants into every term', () => {
     const parameters: Record<string, { value: number }> = {}
     const blocksIn: Record<string, { role: 'plant'; num: string; den: string }> = {}
     for (let i = 1; i <= 8; i++) {
@@ -194,11 +195,8 @@ describe('speed of the exact expansion', () => {
       blocksIn[`L${i}`] = { role: 'plant', num: '1', den: `T${i}*s + 1` }
     }
     const { loop, parameters: p, blocks } = modelOf({ parameters, blocks: blocksIn, structure: { feedback: { forward: { series: Object.keys(blocksIn) } } } })
-    const t0 = performance.now()
     const r = reduceStructure(loop.structure, blocks, p)
-    const ms = performance.now() - t0
     // 1 + Π(T_i s + 1): 2^8 terms in all, one of them the constant 2.
     expect(r.closedLoop.den.reduce((n, c) => n + c.terms.size, 0)).toBe(256)
-    expect(ms).toBeLessThan(180)
   })
 })

@@ -131,13 +131,4 @@ describe('polynomialRoots', () => {
     expect(worstRelativeError(got, want)).toBeLessThan(1e-8)
     for (const r of got) expect(r.im).toBe(0)
   })
-
-  it('takes well under a millisecond at degree 6', () => {
-    // Source: the brief's speed target (tolerance corners call this hundreds of times).
-    const c = [1, 3, 5, 7, 6, 4, 1.2]
-    for (let i = 0; i < 200; i++) polynomialRoots(c)
-    const t0 = performance.now()
-    for (let i = 0; i < 2000; i++) polynomialRoots(c)
-    expect((performance.now() - t0) / 2000).toBeLessThan(0.25)
-  })
 })

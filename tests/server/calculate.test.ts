@@ -2,7 +2,7 @@
 // and the engine kept off the event loop (calc-contract.md, "Result" and "Bad input").
 import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
-import { Client, demo, signedIn } from './support/client'
+import { Client, demo, sendUnread, signedIn } from './support/client'
 import { heavyLoop } from './support/loops'
 
 const examples = new URL('../../../shared/examples/', import.meta.url)
@@ -69,10 +69,10 @@ describe('POST /api/calculate', () => {
   it('answers 413 for a body of several MiB without reading it', async () => {
     const engineer = await signedIn(demo.engineer)
     const huge = { ...booster, title: 'x'.repeat(5 * 1024 * 1024) }
-    const answer = await engineer.post('/api/calculate', huge)
+    const answer = await sendUnread('/api/calculate', { cookie: engineer.cookie, 'content-type': 'application/json' }, JSON.stringify(huge))
     expect(answer.status).toBe(413)
-    expect(answer.body.data.field).toBe('file')
-    expect(answer.body.message).toMatch(/above the limit of 256 KiB/)
+    expect(answer.json.data.field).toBe('file')
+    expect(answer.json.message).toMatch(/above the limit of 256 KiB/)
   })
 })
 

@@ -2,7 +2,7 @@
 // from other sites refused, JSON routes taking only JSON, and a body past its limit never read whole.
 import { request as httpRequest } from 'node:http'
 import { describe, expect, it, inject } from 'vitest'
-import { database, demo, signedIn, unique } from './support/client'
+import { database, demo, sendUnread, signedIn, unique } from './support/client'
 
 const base = () => inject('baseUrl')
 
@@ -151,7 +151,7 @@ describe('a body past its limit', () => {
 
   it('refuses a declared body past the general limit with 413 before reading it', async () => {
     const admin = await signedIn(demo.admin)
-    const answer = await raw('POST', '/api/organisations', { cookie: admin.cookie, 'content-type': 'application/json' }, JSON.stringify({ name: 'x'.repeat(2 * 1024 * 1024) }))
+    const answer = await sendUnread('/api/organisations', { cookie: admin.cookie, 'content-type': 'application/json' }, JSON.stringify({ name: 'x'.repeat(2 * 1024 * 1024) }))
     expect(answer.status).toBe(413)
   })
 

@@ -3,6 +3,7 @@
 // the stored revision, and of two racing saves exactly one kept.
 import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { database, newPerson, signedIn, unique, type Client } from './support/client'
+import { heavyLoop } from './support/loops'
 import { newSheet, readTemplate, setStatus, theCast, type Cast } from './support/sheets'
 import { loopFileOf } from '../../shared/schemas/sheet'
 
@@ -266,14 +267,8 @@ describe('saving a sheet', () => {
 
   it('answers 422 when the engine stops at its time limit, and keeps the stored document', async () => {
     const { id, detail } = await newSheet(engineer, projectId, { title: 'Heavy', loopTag: 'TIC-1-84' })
-    // Sixteen banded lags: far more tolerance corners than the engine finishes within its limit (tests/server/calculate.test.ts).
-    const lags = Array.from({ length: 16 }, (_, i) => i + 1)
-    const loop = {
-      title: 'Heavy',
-      parameters: { K: { value: 0.5 }, ...Object.fromEntries(lags.map((i) => [`T${i}`, { value: 1 + 0.1 * i, min: 0.9 + 0.1 * i, max: 1.1 + 0.1 * i }])) },
-      blocks: { K: { role: 'controller', label: 'Gain', num: 'K' }, ...Object.fromEntries(lags.map((i) => [`G${i}`, { role: 'plant', label: `Lag ${i}`, num: '1', den: `T${i}*s + 1` }])) },
-      structure: { feedback: { forward: { series: ['K', ...lags.map((i) => `G${i}`)] }, return: null, sign: -1 } },
-    }
+    // The heaviest file the limits let through (1,024 corners), which runs well past the engine's time limit.
+    const loop = heavyLoop()
     const document = {
       ...detail.revision.document,
       loop,

@@ -2,6 +2,7 @@
 import { inject } from 'vitest'
 import postgres from 'postgres'
 import { Agent } from 'undici'
+import { request as httpRequest } from 'node:http'
 import { demoPassword } from '../../../scripts/demo-people'
 
 export interface Answer<T = any> {
@@ -77,6 +78,27 @@ export class Client {
   delete<T = any>(path: string) {
     return this.request<T>('DELETE', path)
   }
+}
+
+/**
+ * Sends a body the server should refuse before reading it whole, and takes its answer as soon as it comes.
+ * The server closes the connection after such an answer, so the rest of the write fails (EPIPE or a reset);
+ * fetch reports that as its own error and loses the answer, which is why this uses node:http.
+ */
+export function sendUnread(path: string, headers: Record<string, string>, body: string): Promise<{ status: number; json: any }> {
+  const url = new URL(path, inject('baseUrl'))
+  return new Promise((resolve, reject) => {
+    let answered = false
+    const req = httpRequest({ method: 'POST', hostname: url.hostname, port: url.port, path: url.pathname + url.search, headers }, (res) => {
+      answered = true
+      let text = ''
+      res.on('data', (part) => (text += part))
+      res.on('end', () => resolve({ status: res.statusCode ?? 0, json: text ? JSON.parse(text) : null }))
+      res.on('error', reject)
+    })
+    req.on('error', (error) => (answered ? undefined : reject(error)))
+    req.end(body)
+  })
 }
 
 export const demo = {
