@@ -260,3 +260,64 @@ export const sheetRevisions = pgTable(
     check('sheet_revisions_version_positive', sql`${table.version} >= 1`),
   ],
 )
+
+/**
+ * E-mail waiting to go out: written in the same transaction as the change it tells of (server/services/outbox.ts),
+ * delivered by the outbox worker, which claims rows with FOR UPDATE SKIP LOCKED so several app servers on one
+ * database never send one twice. `message_id` is the Message-ID header, fixed when the row is written.
+ */
+export const outbox = pgTable(
+  'outbox',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    messageId: text('message_id').notNull(),
+    /** What the message is for (`sheet.submitted`, `password.reset`, …): the audit trail and the tests read it. */
+    kind: text('kind').notNull(),
+    recipient: text('recipient').notNull(),
+    subject: text('subject').notNull(),
+    body: text('body').notNull(),
+    createdAt: createdAt(),
+    attempts: integer('attempts').notNull().default(0),
+    /** Not before this time: backoff after a failed attempt. */
+    nextAttemptAt: timestamp('next_attempt_at', { withTimezone: true }).notNull().defaultNow(),
+    /** A worker holds the row until then; past it, another may claim it (the holder died). */
+    claimedUntil: timestamp('claimed_until', { withTimezone: true }),
+    sentAt: timestamp('sent_at', { withTimezone: true }),
+    /** Set when the worker gave up after its last attempt. */
+    failedAt: timestamp('failed_at', { withTimezone: true }),
+    lastError: text('last_error'),
+  },
+  (table) => [
+    uniqueIndex('outbox_message_id').on(table.messageId),
+    index('outbox_waiting').on(table.nextAttemptAt).where(sql`${table.sentAt} is null and ${table.failedAt} is null`),
+  ],
+)
+
+/**
+ * Background work other than e-mail (PDF renders first): one row a job, claimed in the database with
+ * FOR UPDATE SKIP LOCKED by whichever app server is free (server/services/jobs.ts).
+ */
+export const jobs = pgTable(
+  'jobs',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    kind: text('kind').notNull(),
+    payload: jsonb('payload').notNull(),
+    status: text('status').notNull().default('waiting'),
+    /** What the job has done so far, for a progress bar: `{ done, total, what }`. */
+    progress: jsonb('progress'),
+    result: jsonb('result'),
+    lastError: text('last_error'),
+    attempts: integer('attempts').notNull().default(0),
+    maxAttempts: integer('max_attempts').notNull().default(3),
+    runAfter: timestamp('run_after', { withTimezone: true }).notNull().defaultNow(),
+    claimedUntil: timestamp('claimed_until', { withTimezone: true }),
+    createdBy: integer('created_by').references(() => people.id),
+    createdAt: createdAt(),
+    finishedAt: timestamp('finished_at', { withTimezone: true }),
+  },
+  (table) => [
+    check('jobs_status_known', sql`${table.status} in ('waiting', 'running', 'done', 'failed')`),
+    index('jobs_waiting').on(table.runAfter).where(sql`${table.status} in ('waiting', 'running')`),
+  ],
+)
