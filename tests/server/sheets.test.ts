@@ -276,7 +276,7 @@ describe('saving a sheet', () => {
       blockOrder: Object.keys(loop.blocks),
     }
     const stopped = await engineer.patch(`/api/sheets/${id}`, { version: 1, document })
-    expect(stopped.status).toBe(422)
+    expect(stopped.status, JSON.stringify(stopped.body).slice(0, 400)).toBe(422)
     expect(stopped.body.message).toMatch(/time limit/)
     const [stored] = await database()`select version from sheet_revisions where sheet_id = ${id}`
     expect(stored!.version).toBe(1)
