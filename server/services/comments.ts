@@ -185,7 +185,7 @@ export async function addComment(
     // The revision's row lock: a save or a transition racing the comment waits, and the version is read afresh.
     const revision = await loadRevision(tx, revisionId, true)
     if (revision.status !== 'in check') return refused(`Comments are written while a revision is in check; this one is ${revision.status}`, { revisionId })
-    if (revision.version !== body.version) return { stale: revision }
+    if (revision.version !== body.version) return { kind: 'stale' as const, revision }
     const [created] = await tx
       .insert(comments)
       .values({ revisionId, anchorKind: body.anchorKind, anchor: body.anchor, anchorLabel, body: body.body, authorId: viewer.id, revisionVersion: revision.version })
@@ -196,10 +196,10 @@ export async function addComment(
       subjectId: created!.id,
       detail: { revisionId, anchorKind: body.anchorKind, anchor: body.anchor, version: revision.version },
     })
-    return { revision }
+    return { kind: 'done' as const, revision }
   })
   if ('refused' in outcome) return outcome
-  if ('stale' in outcome) return stale(db, context, outcome.stale, body.version, 'comment.create-refused')
+  if (outcome.kind === 'stale') return stale(db, context, outcome.revision, body.version, 'comment.create-refused')
   return answerOf(db, outcome.revision, first.rights, viewer)
 }
 
@@ -224,9 +224,9 @@ export async function updateComment(
   const outcome = await db.transaction(async (tx) => {
     const revision = await loadRevision(tx, comment.revisionId, true)
     if (revision.status !== first.revision.status) return refused(`The revision is now ${revision.status}`, { commentId })
-    if (revision.version !== body.version) return { stale: revision }
+    if (revision.version !== body.version) return { kind: 'stale' as const, revision }
     const [current] = await tx.select().from(comments).where(eq(comments.id, commentId)).for('update')
-    if (current!.resolvedAt) return { resolved: revision }
+    if (current!.resolvedAt) return { kind: 'resolved' as const, revision }
     const now = new Date()
     if (body.action === 'answer') {
       await tx.update(comments).set({ answer: body.answer, answeredBy: viewer.id, answeredAt: now, answeredVersion: revision.version }).where(eq(comments.id, commentId))
@@ -239,13 +239,13 @@ export async function updateComment(
       subjectId: commentId,
       detail: { revisionId: revision.id, version: revision.version },
     })
-    return { revision }
+    return { kind: 'done' as const, revision }
   })
   if ('refused' in outcome) return outcome
-  if ('stale' in outcome) return stale(db, context, outcome.stale, body.version, `comment.${body.action}-refused`)
-  if ('resolved' in outcome) {
+  if (outcome.kind === 'stale') return stale(db, context, outcome.revision, body.version, `comment.${body.action}-refused`)
+  if (outcome.kind === 'resolved') {
     await recordAuditEvent(db, context, { action: `comment.${body.action}-refused`, subjectType: 'comment', subjectId: commentId, status: 409, detail: { reason: 'already resolved' } })
-    throw createError({ statusCode: 409, statusMessage: 'This comment is already resolved', data: { version: outcome.resolved.version } })
+    throw createError({ statusCode: 409, statusMessage: 'This comment is already resolved', data: { version: outcome.revision.version } })
   }
   return answerOf(db, outcome.revision, first.rights, viewer)
 }
