@@ -321,3 +321,48 @@ export const jobs = pgTable(
     index('jobs_waiting').on(table.runAfter).where(sql`${table.status} in ('waiting', 'running')`),
   ],
 )
+
+// --- branch `review`: the checker's comments on a revision (issue 8, item 3) ---------------------------------------
+
+/**
+ * A checker's comment on one revision, anchored to what it concerns (shared/schemas/comments.ts): a section of
+ * the sheet, a block id, a parameter symbol, or a derivation step named by its number in the revision's stored
+ * result (with the step's title copied into `anchor_label` when written, so the comment still reads right after
+ * the derivation changes). The engineer answers; a checker resolves. Comments stay with their revision (a new
+ * revision starts with none) and are never shown to clients. `revision_version` is the version of the revision
+ * the checker read when writing it.
+ */
+export const comments = pgTable(
+  'comments',
+  {
+    id: serial('id').primaryKey(),
+    revisionId: integer('revision_id')
+      .notNull()
+      .references(() => sheetRevisions.id),
+    anchorKind: text('anchor_kind').notNull(),
+    anchor: text('anchor').notNull(),
+    anchorLabel: text('anchor_label'),
+    body: text('body').notNull(),
+    authorId: integer('author_id')
+      .notNull()
+      .references(() => people.id),
+    revisionVersion: integer('revision_version').notNull(),
+    createdAt: createdAt(),
+    answer: text('answer'),
+    answeredBy: integer('answered_by').references(() => people.id),
+    answeredAt: timestamp('answered_at', { withTimezone: true }),
+    /** The revision's version the engineer answered at. */
+    answeredVersion: integer('answered_version'),
+    resolvedBy: integer('resolved_by').references(() => people.id),
+    resolvedAt: timestamp('resolved_at', { withTimezone: true }),
+    /** The revision's version the checker resolved at: the content they saw the fix in. */
+    resolvedVersion: integer('resolved_version'),
+  },
+  (table) => [
+    index('comments_revision').on(table.revisionId, table.id),
+    index('comments_open').on(table.revisionId).where(sql`${table.resolvedAt} is null`),
+    check('comments_anchor_kind_known', sql`${table.anchorKind} in ('section', 'block', 'parameter', 'step')`),
+    check('comments_answered_whole', sql`(${table.answer} is null) = (${table.answeredAt} is null)`),
+    check('comments_resolved_whole', sql`(${table.resolvedBy} is null) = (${table.resolvedAt} is null)`),
+  ],
+)

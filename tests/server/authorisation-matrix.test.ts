@@ -22,7 +22,7 @@ describe('authorisation matrix: every route × every caller', () => {
   it.each(cases)('$label', async ({ row, caller }) => {
     const prepared = await row.prepare(kit)
     const client = row.ownSession ? await freshClient(caller) : clients[caller]
-    const answer = await client.request(row.method, pathOf(row, prepared.params), prepared.body)
+    const answer = await client.request(row.method, pathOf(row, prepared.params, prepared.query), prepared.body)
     expect(answer.status, JSON.stringify(answer.body)).toBe(row.expect[caller])
     if (answer.status === 401 || answer.status === 403) {
       expect(Object.keys(answer.body ?? {}).filter((key) => !errorKeys.has(key))).toEqual([])

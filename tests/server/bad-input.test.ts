@@ -58,14 +58,24 @@ interface Probe {
   mayPass?: boolean
 }
 
-function probesOf(row: RouteRow, prepared: { params?: Record<string, string>; body?: unknown }): Probe[] {
+function probesOf(row: RouteRow, prepared: { params?: Record<string, string>; body?: unknown; query?: Record<string, string> }): Probe[] {
   const probes: Probe[] = []
-  const path = pathOf(row, prepared.params)
+  const path = pathOf(row, prepared.params, prepared.query)
   for (const name of Object.keys(prepared.params ?? {})) {
     for (const id of idShapes) {
-      const bad = pathOf(row, { ...prepared.params, [name]: id })
+      const bad = pathOf(row, { ...prepared.params, [name]: id }, prepared.query)
       probes.push({ label: `[${name}] = ${id}`, send: (client) => client.request(row.method, bad, prepared.body) })
     }
+  }
+  // A route's own query (RouteRow prepare's `query`): each value replaced by the id shapes, then missing.
+  for (const name of Object.keys(prepared.query ?? {})) {
+    for (const value of [...idShapes, '', '%ud800']) {
+      const bad = pathOf(row, prepared.params, { ...prepared.query, [name]: value })
+      // Revision 0 is a revision: only "never 5xx" holds for it.
+      probes.push({ label: `?${name}=${value}`, send: (client) => client.request(row.method, bad, prepared.body), mayPass: value === '0' })
+    }
+    const { [name]: _left, ...rest } = prepared.query ?? {}
+    probes.push({ label: `?${name} missing`, send: (client) => client.request(row.method, pathOf(row, prepared.params, rest), prepared.body) })
   }
   if (prepared.body !== undefined) {
     for (const leaf of leaves(prepared.body)) {

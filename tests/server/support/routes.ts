@@ -39,6 +39,8 @@ export interface Prepared {
   params?: Record<string, string>
   /** A valid JSON body; none for a route that reads no body. */
   body?: unknown
+  /** A valid query (`?from=0&to=0`); the bad-input sweep replaces each value by bad shapes. */
+  query?: Record<string, string>
 }
 
 /** The names of the bad-input shapes of bad-input.test.ts that a body value may be replaced by. */
@@ -159,6 +161,30 @@ export class Kit {
   async sampleSheetVersion(): Promise<number> {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
+  }
+  /** A sheet of NWD-214 by the demo engineer whose revision is in check (set by SQL, as the workflow would). */
+  sampleRevisionInCheck(): Promise<{ sheetId: number; revisionId: number }> {
+    return this.once('revision in check', async () => {
+      const engineer = await this.engineer()
+      const created = await engineer.post(`/api/projects/${await this.demoProjectId()}/sheets`, { title: 'Route table sheet in check', loopTag: 'TIC-214-97' })
+      if (created.status !== 201) throw new Error(`creating a sample sheet answered ${created.status}`)
+      const [row] = await database()`update sheet_revisions set status = 'in check' where sheet_id = ${created.body.id} returning id`
+      return { sheetId: created.body.id as number, revisionId: row!.id as number }
+    })
+  }
+  async sampleRevisionVersion(): Promise<number> {
+    const [row] = await database()`select version from sheet_revisions where id = ${(await this.sampleRevisionInCheck()).revisionId}`
+    return row!.version as number
+  }
+  /** An open comment of the demo checker on the sample revision in check. */
+  sampleComment(): Promise<number> {
+    return this.once('comment', async () => {
+      const { revisionId } = await this.sampleRevisionInCheck()
+      const checker = await signedIn(demo.checker)
+      const answer = await checker.post(`/api/revisions/${revisionId}/comments`, { version: await this.sampleRevisionVersion(), anchorKind: 'section', anchor: 'scope', body: 'Route table sample comment' })
+      if (answer.status !== 201) throw new Error(`commenting answered ${answer.status}`)
+      return answer.body.comments.at(-1).id as number
+    })
   }
   firmSettings(): Promise<unknown> {
     return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
@@ -368,10 +394,61 @@ export const routes: RouteRow[] = [
     expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
     prepare: async () => ({ params: { name: 'pi-pressure-loop' } }),
   },
+  // Review (branch review): comments, history, diff and the recomputation. The sample sheets are drafts or in
+  // check, which a client never sees; issued revisions against clients are in tests/server/review-*.test.ts.
+  {
+    method: 'GET',
+    route: '/api/revisions/[id]/comments',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleRevisionInCheck()).revisionId) } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/revisions/[id]/comments',
+    // Only a checker of the project who did not prepare the revision comments (issue 8, item 3).
+    expect: onlyRoles(201, 'checker'),
+    prepare: async (kit) => ({
+      params: { id: String((await kit.sampleRevisionInCheck()).revisionId) },
+      body: { version: await kit.sampleRevisionVersion(), anchorKind: 'section', anchor: 'scope', body: 'Route table comment' },
+    }),
+  },
+  {
+    method: 'PATCH',
+    route: '/api/comments/[id]',
+    // The engineer answers; resolving is a checker's (tests/server/review-comments.test.ts).
+    expect: onlyRoles(200, 'engineer'),
+    prepare: async (kit) => ({
+      params: { id: String(await kit.sampleComment()) },
+      body: { action: 'answer', version: await kit.sampleRevisionVersion(), answer: 'Route table answer' },
+    }),
+  },
+  {
+    method: 'GET',
+    route: '/api/sheets/[id]/revisions',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/sheets/[id]/diff',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) }, query: { from: '0', to: '0' } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/revisions/[id]/recomputation',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleRevisionInCheck()).revisionId) } }),
+  },
 ]
 
 /** The path of `row` with `params` put in (as given: a bad-input shape such as `%00` goes as it is). */
-export function pathOf(row: RouteRow, params: Record<string, string> = {}): string {
+export function pathOf(row: RouteRow, params: Record<string, string> = {}, query?: Record<string, string>): string {
+  const search = query ? `?${Object.entries(query).map(([name, value]) => `${name}=${value}`).join('&')}` : ''
+  return `${pathWithParams(row, params)}${search}`
+}
+
+function pathWithParams(row: RouteRow, params: Record<string, string>): string {
   return row.route.replace(/\[(\w+)\]/g, (_, name: string) => {
     const value = params[name]
     if (value === undefined) throw new Error(`${row.method} ${row.route}: no sample value for [${name}]`)
