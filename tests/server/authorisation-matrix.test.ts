@@ -25,7 +25,7 @@ const cells: Cell[] = routes.flatMap((row) => {
   const elsewhere = row.scope === 'project' ? callers.map((caller) => ({ row, caller, place: 'elsewhere' as Place, status: expectedElsewhere(row)[caller] })) : []
   return [...home, ...elsewhere].map((cell) => ({
     ...cell,
-    label: `${row.method} ${row.route} ${cell.place === 'home' ? 'in the own project' : "in another's project"} as ${cell.caller} → ${cell.status}`,
+    label: `${row.method} ${row.route}${row.scope !== 'project' ? '' : cell.place === 'home' ? ' in the own project' : " in another's project"} as ${cell.caller} → ${cell.status}`,
   }))
 })
 
