@@ -460,6 +460,8 @@ export const routes: RouteRow[] = [
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table sheet '), loopTag: 'TIC-214-98' } }),
   },
   { method: 'GET', route: '/api/sheets', expect: signedInOnly(200), list: true, prepare: async () => ({}) },
+  // Anyone signed in: a person who is no checker gets an empty queue.
+  { method: 'GET', route: '/api/check-queue', expect: signedInOnly(200), prepare: async () => ({}) },
   {
     method: 'GET',
     route: '/api/sheets/[id]',
