@@ -155,8 +155,20 @@ export const auditEvents = pgTable(
     path: text('path'),
     ip: text('ip'),
     detail: jsonb('detail').notNull().default(sql`'{}'::jsonb`),
+    // (branch matrix) Where the event happened, for the admins' filters: filled on insert by a trigger
+    // (drizzle/…_audit_event_place.sql) from the subject, the detail's ids or the request path, so no code path
+    // can forget them. No foreign key: the trail outlives what it tells of.
+    projectId: integer('project_id'),
+    sheetId: integer('sheet_id'),
   },
-  (table) => [index('audit_events_at').on(table.at)],
+  (table) => [
+    index('audit_events_at').on(table.at),
+    // (branch matrix) One per filter of GET /api/audit, each read newest first.
+    index('audit_events_project_at').on(table.projectId, table.at),
+    index('audit_events_sheet_at').on(table.sheetId, table.at),
+    index('audit_events_actor_at').on(table.actorId, table.at),
+    index('audit_events_action_at').on(table.action, table.at),
+  ],
 )
 
 /** A project's groups of sheets, issued together (product.md: a calculation package). */

@@ -13,6 +13,7 @@ import { loopFileOf, sheetDocumentSchema, type SheetDocument, type SheetDocument
 import {
   clientVisibleStatuses,
   editableStatuses,
+  type CheckQueueRow,
   type CreatedSheet,
   type MySheetRow,
   type MySheetsQuery,
@@ -198,12 +199,54 @@ export async function listMySheets(db: Database, query: MySheetsQuery, viewer: V
       .innerJoin(projects, eq(projects.id, sheets.projectId))
       .leftJoin(packages, eq(packages.id, sheets.packageId))
       .where(where)
-      .orderBy(...orderOf(query))
+      // The engineer's home shows sheets returned to them first (issue 8, item 10): they wait on the engineer.
+      .orderBy(...(query.mine === 'drafts' ? [desc(sql`${sheets.currentStatus} = 'returned'`)] : []), ...orderOf(query))
       .limit(query.pageSize)
       .offset((query.page - 1) * query.pageSize),
     db.select({ total: sql<number>`count(*)::int` }).from(sheets).where(where),
   ])
   return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
+}
+
+/**
+ * GET /api/check-queue (issue 8, item 10): revisions in check in the projects where `viewer` is a checker member,
+ * the longest waiting first. Each says whether `viewer` may check it: not one they prepared or last edited.
+ * (The workflow's `revision_editors` will name everyone who edited a revision; until it lands the revision's
+ * preparer and last editor are what the database knows.)
+ */
+export async function listCheckQueue(db: Database, viewer: Viewer): Promise<CheckQueueRow[]> {
+  if (!viewer.roles.includes('checker')) return []
+  const rows = await db
+    .select({
+      sheetId: sheets.id,
+      revisionId: current.id,
+      revisionIndex: current.revisionIndex,
+      number: sheets.number,
+      title: sheets.title,
+      loopTag: sheets.loopTag,
+      projectId: projects.id,
+      projectNumber: projects.number,
+      preparedById: current.preparedBy,
+      editedById: current.editedBy,
+      preparedByName: preparer.name,
+      waitingSince: current.editedAt,
+    })
+    .from(sheets)
+    .innerJoin(current, and(eq(current.sheetId, sheets.id), eq(current.revisionIndex, sheets.currentRevisionIndex)))
+    .innerJoin(projects, eq(projects.id, sheets.projectId))
+    .innerJoin(preparer, eq(preparer.id, current.preparedBy))
+    .where(
+      and(
+        eq(sheets.currentStatus, 'in check'),
+        sql`exists (select 1 from ${projectMembers} m where m.project_id = ${sheets.projectId} and m.person_id = ${viewer.id} and m.role = 'checker')`,
+      ),
+    )
+    .orderBy(asc(current.editedAt), asc(current.id))
+    .limit(200)
+  return rows.map(({ preparedById, editedById, waitingSince, ...row }) => {
+    const reason = preparedById === viewer.id ? 'You prepared this revision' : editedById === viewer.id ? 'You edited this revision' : null
+    return { ...row, waitingSince: waitingSince.toISOString(), mayCheck: reason === null, reason }
+  })
 }
 
 // ---------------------------------------------------------------------------------------------------------------

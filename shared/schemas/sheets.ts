@@ -209,3 +209,24 @@ export interface TemplateSummary {
 export const editableStatuses: readonly SheetStatus[] = ['draft', 'returned']
 /** Statuses a client may see (product.md: only issued revisions; superseded ones they keep). */
 export const clientVisibleStatuses: readonly SheetStatus[] = ['issued', 'superseded']
+
+/**
+ * One row of GET /api/check-queue (branch matrix): a revision in check in a project where the signed-in person is a
+ * checker member, oldest first, and whether they may check it: nobody checks what they prepared or edited.
+ */
+export interface CheckQueueRow {
+  sheetId: number
+  revisionId: number
+  revisionIndex: number
+  number: string
+  title: string
+  loopTag: string
+  projectId: number
+  projectNumber: string
+  preparedByName: string
+  /** When it went into check (the revision's last change until the workflow records the submission's own time). */
+  waitingSince: string
+  mayCheck: boolean
+  /** Why not, when `mayCheck` is false. */
+  reason: string | null
+}

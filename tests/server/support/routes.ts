@@ -67,15 +67,84 @@ export interface RouteRow {
   badBodies?: (valid: unknown) => unknown[]
   /** Not a file of server/api/ but a module's own route (nuxt-auth-utils). */
   module?: string
+  /**
+   * `'project'`: the route acts on a record of one project (its path names a project, sheet, package, revision or
+   * comment). The matrix then calls it a second time with `prepare(kit.elsewhere())`: a record of another
+   * organisation's project, of which none of the demo callers is a member. Required of every such route
+   * (authorisation-matrix.test.ts, `projectScoped`).
+   */
+  scope?: 'project'
+  /**
+   * The status each caller gets for the record of the other project, where it differs from `nonMember(expect)`
+   * (admins as at home, every other signed-in caller 403).
+   */
+  expectElsewhere?: Partial<Expected>
+  /** A prepare of its own for the other project, where `prepare(kit.elsewhere())` cannot serve. */
+  prepareElsewhere?: (kit: Kit) => Promise<Prepared>
 }
 
-/** Sample rows for the prepare functions: made through the API as the demo admin, once or per call. */
+/**
+ * Routes that act on a record of one project: their rows need `scope: 'project'`, so the matrix calls them as a
+ * member and as a non-member (issue 8, "own project and another's").
+ */
+export const projectScopedRoute = /^\/api\/(projects\/\[id\]|sheets\/\[id\]|packages\/\[id\]|revisions\/\[id\]|comments\/\[id\])/
+
+/**
+ * The status each caller gets for a record of a project they are not a member of: signed out as ever, an admin
+ * (whose reach is the firm's, not a project's) as at home, every other role refused with 403.
+ */
+export function nonMember(home: Expected): Expected {
+  const refusal = (status: number) => (status === 401 ? 401 : 403)
+  return { signedOut: home.signedOut, admin: home.admin, engineer: refusal(home.engineer), checker: refusal(home.checker), client: refusal(home.client) }
+}
+
+/** What `row` answers each caller for the other project's record. */
+export function expectedElsewhere(row: RouteRow): Expected {
+  return { ...nonMember(row.expect), ...row.expectElsewhere }
+}
+
+/**
+ * Where a row's samples live. `home`: NWD-214, of which the demo engineer, checker and client are members.
+ * `elsewhere`: a project of another client organisation, whose members are people of its own, none of the demo
+ * people (issue 8: "own project and another's"). A row with `scope: 'project'` is prepared in both.
+ */
+export type Place = 'home' | 'elsewhere'
+
+/** The people and records of the `elsewhere` project, made once through the API as the demo admin. */
+interface Elsewhere {
+  organisationId: number
+  organisationName: string
+  projectId: number
+  projectNumber: string
+  projectName: string
+  engineer: Client
+  checker: Client
+  client: Client
+}
+
+/**
+ * Sample rows for the prepare functions: made through the API as the demo admin, once or per call. A prepare
+ * asks the kit for the project, its engineer and checker, and its sample sheet; the matrix hands the same
+ * prepare the kit of the other place (`kit.elsewhere()`), so one prepare serves both.
+ */
 export class Kit {
   private cache = new Map<string, Promise<unknown>>()
-  constructor(readonly admin: Client) {}
+  private elsewhereKit?: Kit
+  constructor(
+    readonly admin: Client,
+    readonly place: Place = 'home',
+    private readonly shared: Map<string, Promise<unknown>> = new Map(),
+  ) {}
 
   static async start(): Promise<Kit> {
     return new Kit(await signedIn(demo.admin))
+  }
+
+  /** The same kit for the project of another organisation: every sample it makes is made there. */
+  elsewhere(): Kit {
+    if (this.place === 'elsewhere') return this
+    this.elsewhereKit ??= new Kit(this.admin, 'elsewhere', this.shared)
+    return this.elsewhereKit
   }
 
   private once<T>(key: string, make: () => Promise<T>): Promise<T> {
@@ -83,34 +152,82 @@ export class Kit {
     return this.cache.get(key) as Promise<T>
   }
 
+  /** Kept across both places (people, invitations: they belong to no project). */
+  private onceForBoth<T>(key: string, make: () => Promise<T>): Promise<T> {
+    if (!this.shared.has(key)) this.shared.set(key, make())
+    return this.shared.get(key) as Promise<T>
+  }
+
+  /** The other organisation, its project and its own engineer, checker and client (members of it alone). */
+  private other(): Promise<Elsewhere> {
+    return this.onceForBoth('elsewhere', async () => {
+      const organisationName = unique('Outside Utility ')
+      const organisation = await this.admin.post('/api/organisations', { name: organisationName })
+      if (organisation.status !== 201) throw new Error(`creating the other organisation answered ${organisation.status}`)
+      const projectNumber = unique('ELSE-').toUpperCase()
+      const projectName = `Outside works ${projectNumber.toLowerCase()}`
+      const project = await this.admin.post('/api/projects', { number: projectNumber, name: projectName, organisationId: organisation.body.id })
+      if (project.status !== 201) throw new Error(`creating the other project answered ${project.status}`)
+      const members = {} as Record<'engineer' | 'checker' | 'client', Client>
+      for (const role of ['engineer', 'checker', 'client'] as const) {
+        const person = await newPerson(this.admin, [role], { name: `Outside ${role} ${projectNumber}`, organisationId: role === 'client' ? organisation.body.id : undefined })
+        const added = await this.admin.post(`/api/projects/${project.body.id}/members`, { personId: person.id, role })
+        if (added.status !== 201) throw new Error(`adding the other project's ${role} answered ${added.status}`)
+        members[role] = await signedIn(person.email, person.password)
+      }
+      return { organisationId: organisation.body.id, organisationName, projectId: project.body.id, projectNumber, projectName, ...members }
+    })
+  }
+
+  /**
+   * Texts found only in the records of the other project (its number, name and organisation). No answer to a
+   * person who is not a member of it may hold one; made on first use, so call it before the cells run.
+   */
+  async elsewhereMarkers(): Promise<string[]> {
+    const other = await this.other()
+    return [other.projectNumber, other.projectName, other.organisationName]
+  }
+
   personId(email: string): Promise<number> {
-    return this.once(`person:${email}`, async () => {
+    return this.onceForBoth(`person:${email}`, async () => {
       const [row] = await database()`select id from people where email = ${email}`
       return row!.id as number
     })
   }
 
-  /** The demo project NWD-214, of which the demo engineer, checker and client are members. */
-  demoProjectId(): Promise<number> {
+  /** The project of this place: NWD-214 at home, the other organisation's project elsewhere. */
+  projectId(): Promise<number> {
+    if (this.place === 'elsewhere') return this.other().then((other) => other.projectId)
     return this.once('project:NWD-214', async () => {
       const [row] = await database()`select id from projects where number = 'NWD-214'`
       return row!.id as number
     })
   }
 
-  demoOrganisationId(): Promise<number> {
+  /** The project of this place (the name is older than the two places: at home it is the demo project NWD-214). */
+  demoProjectId(): Promise<number> {
+    return this.projectId()
+  }
+
+  /** The client organisation of this place's project. */
+  organisationId(): Promise<number> {
+    if (this.place === 'elsewhere') return this.other().then((other) => other.organisationId)
     return this.once('organisation:Northmere', async () => {
       const [row] = await database()`select id from organisations where name = 'Northmere Water District'`
       return row!.id as number
     })
   }
 
-  /** A new project of the demo client, without members. */
+  demoOrganisationId(): Promise<number> {
+    return this.organisationId()
+  }
+
+  /** A new project of this place's client organisation, without members. */
   async newProject(): Promise<number> {
     const answer = await this.admin.post('/api/projects', {
       number: unique('RT-').toUpperCase(),
       name: 'Route table sample',
-      organisationId: await this.demoOrganisationId(),
+      organisationId: await this.organisationId(),
     })
     if (answer.status !== 201) throw new Error(`creating a sample project answered ${answer.status}`)
     return answer.body.id
@@ -135,23 +252,34 @@ export class Kit {
   }
 
   invitationToken(): Promise<string> {
-    return this.once('invitation', () => this.newInvitationToken())
+    return this.onceForBoth('invitation', () => this.newInvitationToken())
   }
 
   /** A person who can sign in, kept for the sign-in row (so the demo accounts never meet a failure count). */
   signInPerson(): Promise<{ email: string; password: string }> {
-    return this.once('sign-in person', () => newPerson(this.admin, ['engineer']))
+    return this.onceForBoth('sign-in person', () => newPerson(this.admin, ['engineer']))
   }
 
-  /** The demo engineer's session, for samples only an engineer member can make. */
+  /** An engineer member of this place's project: the demo engineer at home, the other project's own elsewhere. */
   engineer(): Promise<Client> {
-    return this.once('engineer session', () => signedIn(demo.engineer))
+    if (this.place === 'elsewhere') return this.other().then((other) => other.engineer)
+    return this.onceForBoth('engineer session', () => signedIn(demo.engineer))
   }
-  /** A draft sheet of NWD-214 (blank document), made once by the demo engineer. */
+  /** A checker member of this place's project. */
+  checker(): Promise<Client> {
+    if (this.place === 'elsewhere') return this.other().then((other) => other.checker)
+    return this.onceForBoth('checker session', () => signedIn(demo.checker))
+  }
+  /** A client member of this place's project (of its organisation). */
+  client(): Promise<Client> {
+    if (this.place === 'elsewhere') return this.other().then((other) => other.client)
+    return this.onceForBoth('client session', () => signedIn(demo.client))
+  }
+  /** A draft sheet of this place's project (blank document), made once by its engineer. */
   sampleSheet(): Promise<{ id: number; document: unknown }> {
     return this.once('sheet', async () => {
       const engineer = await this.engineer()
-      const created = await engineer.post(`/api/projects/${await this.demoProjectId()}/sheets`, { title: 'Route table sample sheet', loopTag: 'TIC-214-99' })
+      const created = await engineer.post(`/api/projects/${await this.projectId()}/sheets`, { title: 'Route table sample sheet', loopTag: 'TIC-214-99' })
       if (created.status !== 201) throw new Error(`creating a sample sheet answered ${created.status}`)
       const detail = await engineer.get(`/api/sheets/${created.body.id}`)
       return { id: created.body.id as number, document: detail.body.revision.document }
@@ -162,7 +290,7 @@ export class Kit {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
   }
-  /** A sheet of NWD-214 by the demo engineer whose revision is in check (set by SQL, as the workflow would). */
+  /** A sheet of this place's project by its engineer whose revision is in check (set by SQL, as the workflow would). */
   sampleRevisionInCheck(): Promise<{ sheetId: number; revisionId: number }> {
     return this.once('revision in check', async () => {
       const engineer = await this.engineer()
@@ -176,18 +304,18 @@ export class Kit {
     const [row] = await database()`select version from sheet_revisions where id = ${(await this.sampleRevisionInCheck()).revisionId}`
     return row!.version as number
   }
-  /** An open comment of the demo checker on the sample revision in check. */
+  /** An open comment of this place's checker on the sample revision in check. */
   sampleComment(): Promise<number> {
     return this.once('comment', async () => {
       const { revisionId } = await this.sampleRevisionInCheck()
-      const checker = await signedIn(demo.checker)
+      const checker = await this.checker()
       const answer = await checker.post(`/api/revisions/${revisionId}/comments`, { version: await this.sampleRevisionVersion(), anchorKind: 'section', anchor: 'scope', body: 'Route table sample comment' })
       if (answer.status !== 201) throw new Error(`commenting answered ${answer.status}`)
       return answer.body.comments.at(-1).id as number
     })
   }
   firmSettings(): Promise<unknown> {
-    return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
+    return this.onceForBoth('firm', async () => (await this.admin.get('/api/firm')).body)
   }
 }
 
@@ -280,13 +408,15 @@ export const routes: RouteRow[] = [
   {
     method: 'GET',
     route: '/api/projects/[id]',
-    // Every demo caller is a member of NWD-214 (scripts/demo-people.ts); issue 8 adds "another's project".
+    scope: 'project',
+    // Every demo caller is a member of NWD-214 (scripts/demo-people.ts); none of them of the project elsewhere.
     expect: signedInOnly(200),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) } }),
   },
   {
     method: 'POST',
     route: '/api/projects/[id]/members',
+    scope: 'project',
     expect: onlyRoles(201, 'admin'),
     prepare: async (kit) => ({
       params: { id: String(await kit.newProject()) },
@@ -296,6 +426,7 @@ export const routes: RouteRow[] = [
   {
     method: 'DELETE',
     route: '/api/projects/[id]/members/[personId]',
+    scope: 'project',
     expect: onlyRoles(200, 'admin'),
     prepare: async (kit) => {
       const id = await kit.newProject()
@@ -306,6 +437,7 @@ export const routes: RouteRow[] = [
     },
   },
   { method: 'GET', route: '/api/audit', expect: onlyRoles(200, 'admin'), list: true, prepare: async () => ({}) },
+  { method: 'GET', route: '/api/audit/actions', expect: onlyRoles(200, 'admin'), prepare: async () => ({}) },
   {
     method: 'POST',
     route: '/api/audit/page-refusals',
@@ -336,11 +468,12 @@ export const routes: RouteRow[] = [
       ]
     },
   },
-  // Sheets and packages: every demo caller is a member of NWD-214. Other projects, drafts against issued
-  // revisions, and every role against them are in tests/server/sheets-access.test.ts.
+  // Sheets and packages: every demo caller is a member of NWD-214, none of the project elsewhere (`scope`). Drafts
+  // against issued revisions, and a second engineer, are in tests/server/sheets-access.test.ts.
   {
     method: 'GET',
     route: '/api/projects/[id]/sheets',
+    scope: 'project',
     expect: signedInOnly(200),
     list: true,
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) } }),
@@ -348,13 +481,17 @@ export const routes: RouteRow[] = [
   {
     method: 'POST',
     route: '/api/projects/[id]/sheets',
+    scope: 'project',
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table sheet '), loopTag: 'TIC-214-98' } }),
   },
   { method: 'GET', route: '/api/sheets', expect: signedInOnly(200), list: true, prepare: async () => ({}) },
+  // Anyone signed in: a person who is no checker gets an empty queue.
+  { method: 'GET', route: '/api/check-queue', expect: signedInOnly(200), prepare: async () => ({}) },
   {
     method: 'GET',
     route: '/api/sheets/[id]',
+    scope: 'project',
     // A draft: a client never sees one (product.md).
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
@@ -362,6 +499,7 @@ export const routes: RouteRow[] = [
   {
     method: 'PATCH',
     route: '/api/sheets/[id]',
+    scope: 'project',
     expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
     prepare: async (kit) => {
       const sheet = await kit.sampleSheet()
@@ -378,12 +516,14 @@ export const routes: RouteRow[] = [
   {
     method: 'GET',
     route: '/api/projects/[id]/packages',
+    scope: 'project',
     expect: signedInOnly(200),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) } }),
   },
   {
     method: 'POST',
     route: '/api/projects/[id]/packages',
+    scope: 'project',
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
   },
@@ -399,12 +539,14 @@ export const routes: RouteRow[] = [
   {
     method: 'GET',
     route: '/api/revisions/[id]/comments',
+    scope: 'project',
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleRevisionInCheck()).revisionId) } }),
   },
   {
     method: 'POST',
     route: '/api/revisions/[id]/comments',
+    scope: 'project',
     // Only a checker of the project who did not prepare the revision comments (issue 8, item 3).
     expect: onlyRoles(201, 'checker'),
     prepare: async (kit) => ({
@@ -415,6 +557,7 @@ export const routes: RouteRow[] = [
   {
     method: 'PATCH',
     route: '/api/comments/[id]',
+    scope: 'project',
     // The engineer answers; resolving is a checker's (tests/server/review-comments.test.ts).
     expect: onlyRoles(200, 'engineer'),
     prepare: async (kit) => ({
@@ -425,18 +568,21 @@ export const routes: RouteRow[] = [
   {
     method: 'GET',
     route: '/api/sheets/[id]/revisions',
+    scope: 'project',
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
   },
   {
     method: 'GET',
     route: '/api/sheets/[id]/diff',
+    scope: 'project',
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) }, query: { from: '0', to: '0' } }),
   },
   {
     method: 'GET',
     route: '/api/revisions/[id]/recomputation',
+    scope: 'project',
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleRevisionInCheck()).revisionId) } }),
   },
