@@ -398,14 +398,30 @@ export async function returnSheet(db: Database, sheetId: number, body: ReturnBod
   })
 }
 
+/**
+ * Whether `viewer` may take `action` as the sheet stands (read without locks): the password of a signature is
+ * checked only then, so a refusal for role or state is answered as such and never counts as a wrong password.
+ */
+async function mayAct(db: Database, sheetId: number, viewer: Viewer, action: LifecycleAction, version: number): Promise<boolean> {
+  const state = await loadState(db, sheetId, false)
+  if (!state) return false
+  const person = { ...viewer, projectRoles: await projectRolesOf(db, state.sheet.projectId, viewer.id) }
+  return canDo(person, state.facts)[action].allowed && state.revision.version === version
+}
+
 /** POST /api/sheets/[id]/approve: the checker's signature over exactly the stored content at `version`. */
 export async function approveSheet(db: Database, sheetId: number, body: ApproveBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing) {
-  const wrong = await checkPassword(db, viewer, body.password, signing)
-  if (wrong) return { ...wrong, detail: { ...wrong.detail, sheetId, action: 'approve' } }
+  const passwordChecked = await mayAct(db, sheetId, viewer, 'approve', body.version)
+  if (passwordChecked) {
+    const wrong = await checkPassword(db, viewer, body.password, signing)
+    if (wrong) return { ...wrong, detail: { ...wrong.detail, sheetId, action: 'approve' } }
+  }
   return transition(db, context, sheetId, viewer, {
     action: 'approve',
     version: body.version,
     work: async (tx, state) => {
+      // The sheet came into check between the first read and the locks: the password was never checked.
+      if (!passwordChecked) throw createError({ statusCode: 409, statusMessage: 'This sheet changed since you loaded it: read it again before you act' })
       const signedAt = new Date()
       const printedName = await printedNameOf(tx, viewer.id)
       await tx.insert(signatures).values({
@@ -496,8 +512,10 @@ async function clientMails(tx: Executor, projectId: number, what: string, links:
  * again, and anything changed meanwhile refuses the issue (409), so what is stored is what was rendered.
  */
 export async function issueSheet(db: Database, sheetId: number, body: IssueBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing, renderer: PdfRenderer) {
-  const wrong = await checkPassword(db, viewer, body.password, signing)
-  if (wrong) return { ...wrong, detail: { ...wrong.detail, sheetId, action: 'issue' } }
+  if (await mayAct(db, sheetId, viewer, 'issue', body.version)) {
+    const wrong = await checkPassword(db, viewer, body.password, signing)
+    if (wrong) return { ...wrong, detail: { ...wrong.detail, sheetId, action: 'issue' } }
+  }
   const before = await loadState(db, sheetId, false)
   if (!before) throw createError({ statusCode: 404, statusMessage: 'No such sheet' })
   const firm = await readFirmSettings(db)

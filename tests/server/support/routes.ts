@@ -3,6 +3,7 @@
 // every caller → the status of the row) and bad-input.test.ts (every route × every caller it admits × each bad
 // shape → a 4xx, never a 500). A new route gets its row here the day it is written (DEVELOPERS.md, "Route table").
 import type { Role } from '../../../shared/schemas/roles'
+import { demoPassword } from '../../../scripts/demo-people'
 import { Client, database, demo, mailTo, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
@@ -159,6 +160,36 @@ export class Kit {
   async sampleSheetVersion(): Promise<number> {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
+  }
+  /** The demo checker's session, for samples that need a sheet checked. */
+  checker(): Promise<Client> {
+    return this.once('checker session', () => signedIn(demo.checker))
+  }
+  /**
+   * A new sheet of NWD-214 prepared by the demo engineer, taken through its life to `status` with the routes of
+   * server/services/lifecycle.ts; answers its id and the version the next action names.
+   */
+  async sheetAt(status: 'draft' | 'in check' | 'approved' | 'issued', packageId?: number): Promise<{ id: number; version: number }> {
+    const engineer = await this.engineer()
+    const created = await engineer.post(`/api/projects/${await this.demoProjectId()}/sheets`, { title: unique('Route table life '), loopTag: 'TIC-214-97', packageId })
+    if (created.status !== 201) throw new Error(`creating a sample sheet answered ${created.status}`)
+    const id = created.body.id as number
+    const step = async (who: Client, action: string, body: Record<string, unknown>) => {
+      const answer = await who.post(`/api/sheets/${id}/${action}`, { version: 1, ...body })
+      if (answer.status !== 200) throw new Error(`${action} of a sample sheet answered ${answer.status}: ${JSON.stringify(answer.body)}`)
+    }
+    if (status !== 'draft') await step(engineer, 'submit', {})
+    if (status === 'approved' || status === 'issued') await step(await this.checker(), 'approve', { password: demoPassword })
+    if (status === 'issued') await step(engineer, 'issue', { purpose: 'review', password: demoPassword })
+    return { id, version: 1 }
+  }
+  /** A new package of NWD-214 holding one approved sheet; answers the body of its issue. */
+  async approvedPackage(): Promise<{ id: number; sheets: Array<{ sheetId: number; version: number }> }> {
+    const engineer = await this.engineer()
+    const made = await engineer.post(`/api/projects/${await this.demoProjectId()}/packages`, { title: unique('Route table package ') })
+    if (made.status !== 201) throw new Error(`creating a sample package answered ${made.status}`)
+    const sheet = await this.sheetAt('approved', made.body.id)
+    return { id: made.body.id, sheets: [{ sheetId: sheet.id, version: sheet.version }] }
   }
   firmSettings(): Promise<unknown> {
     return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
@@ -360,6 +391,48 @@ export const routes: RouteRow[] = [
     route: '/api/projects/[id]/packages',
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
+  },
+  // A sheet's life (server/services/lifecycle.ts): each call gets a new sheet in the state the action leaves. The
+  // demo admin is no member of NWD-214, so acts on none; the client never sees a sheet before it is issued.
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/submit',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('draft')).id) }, body: { version: 1 } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/return',
+    expect: { signedOut: 401, admin: 403, engineer: 403, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('in check')).id) }, body: { version: 1, reason: 'See the comments on the plant model.' } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/approve',
+    expect: { signedOut: 401, admin: 403, engineer: 403, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('in check')).id) }, body: { version: 1, password: demoPassword } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/issue',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('approved')).id) }, body: { version: 1, purpose: 'review', password: demoPassword } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/revise',
+    // An issued revision: the client may see it, but only an engineer member starts the next one.
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('issued')).id) }, body: { version: 1 } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/packages/[id]/issue',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => {
+      const made = await kit.approvedPackage()
+      return { params: { id: String(made.id) }, body: { purpose: 'information', password: demoPassword, sheets: made.sheets } }
+    },
   },
   { method: 'GET', route: '/api/templates', expect: onlyRoles(200, 'engineer', 'checker', 'admin'), prepare: async () => ({}) },
   {
