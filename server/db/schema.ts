@@ -5,6 +5,7 @@ import {
   bigserial,
   boolean,
   check,
+  customType,
   index,
   integer,
   jsonb,
@@ -27,11 +28,14 @@ export const firmSettings = pgTable(
     sheetNumbering: text('sheet_numbering').notNull(),
     paperSize: text('paper_size').notNull(),
     defaultCautions: text('default_cautions').array().notNull().default(sql`'{}'::text[]`),
+    // flow: how issued revisions are labelled (shared/schemas/firm.ts, revisionLabelRules).
+    revisionLabelRule: text('revision_label_rule').notNull().default('letters-then-numbers'),
     updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
   },
   (table) => [
     check('firm_settings_single_row', sql`${table.id} = 1`),
     check('firm_settings_paper_size', sql`${table.paperSize} in ('A4', 'Letter', 'A3')`),
+    check('firm_settings_revision_label_rule', sql`${table.revisionLabelRule} in ('letters-then-numbers', 'letters', 'numbers')`),
   ],
 )
 
@@ -264,8 +268,17 @@ export const sheetRevisions = pgTable(
       .references(() => people.id),
     editedAt: timestamp('edited_at', { withTimezone: true }).notNull().defaultNow(),
     createdAt: createdAt(),
+    // flow: the life of the revision (server/services/lifecycle.ts).
+    submittedAt: timestamp('submitted_at', { withTimezone: true }),
+    approvedAt: timestamp('approved_at', { withTimezone: true }),
+    /** For information, for review, for implementation: set when the revision is issued. */
+    purpose: text('purpose'),
+    issuedAt: timestamp('issued_at', { withTimezone: true }),
+    issuedBy: integer('issued_by').references(() => people.id),
+    supersededAt: timestamp('superseded_at', { withTimezone: true }),
   },
   (table) => [
+    check('sheet_revisions_purpose_known', sql`${table.purpose} is null or ${table.purpose} in ('information', 'review', 'implementation')`),
     uniqueIndex('sheet_revisions_sheet_index').on(table.sheetId, table.revisionIndex),
     check('sheet_revisions_status_known', sql`${table.status} in ('draft', 'in check', 'returned', 'approved', 'issued', 'superseded')`),
     check('sheet_revisions_index_natural', sql`${table.revisionIndex} >= 0`),
@@ -376,5 +389,100 @@ export const comments = pgTable(
     check('comments_anchor_kind_known', sql`${table.anchorKind} in ('section', 'block', 'parameter', 'step')`),
     check('comments_answered_whole', sql`(${table.answer} is null) = (${table.answeredAt} is null)`),
     check('comments_resolved_whole', sql`(${table.resolvedBy} is null) = (${table.resolvedAt} is null)`),
+  ],
+)
+
+// ---------------------------------------------------------------------------------------------------------------
+// flow: signatures, who edited a revision, the issued PDFs and package issues (server/services/lifecycle.ts).
+// drizzle/…_lifecycle_immutable.sql: the database refuses any change to an issued revision, a signature, a stored
+// PDF and a package issue.
+
+const bytea = customType<{ data: Buffer; driverData: Buffer }>({ dataType: () => 'bytea' })
+
+/**
+ * A signature: this person, in this role, at this time, for exactly this content. `contentHash` is the SHA-256
+ * (hex) of the RFC 8785 canonical JSON of the revision's document (shared/calc/content-hash.ts); the signature
+ * holds while the document still hashes to it. One signature of each meaning per revision.
+ */
+export const signatures = pgTable(
+  'signatures',
+  {
+    id: serial('id').primaryKey(),
+    revisionId: integer('revision_id')
+      .notNull()
+      .references(() => sheetRevisions.id),
+    personId: integer('person_id')
+      .notNull()
+      .references(() => people.id),
+    printedName: text('printed_name').notNull(),
+    /** The role the person signed in: `checker` for approval, `engineer` for issue. */
+    role: text('role').notNull(),
+    meaning: text('meaning').notNull(),
+    signedAt: timestamp('signed_at', { withTimezone: true }).notNull().defaultNow(),
+    contentHash: text('content_hash').notNull(),
+    engineVersion: text('engine_version').notNull(),
+  },
+  (table) => [
+    uniqueIndex('signatures_revision_meaning').on(table.revisionId, table.meaning),
+    check('signatures_meaning_known', sql`${table.meaning} in ('checked and approved', 'issued')`),
+    check('signatures_role_known', sql`${table.role} in ('checker', 'engineer')`),
+    check('signatures_hash_form', sql`${table.contentHash} ~ '^[0-9a-f]{64}$'`),
+  ],
+)
+
+/** Everyone who made or edited a revision: nobody checks a revision they prepared or edited (product.md). */
+export const revisionEditors = pgTable(
+  'revision_editors',
+  {
+    revisionId: integer('revision_id')
+      .notNull()
+      .references(() => sheetRevisions.id),
+    personId: integer('person_id')
+      .notNull()
+      .references(() => people.id),
+    firstEditedAt: timestamp('first_edited_at', { withTimezone: true }).notNull().defaultNow(),
+  },
+  (table) => [primaryKey({ columns: [table.revisionId, table.personId] })],
+)
+
+/** The PDF of an issued revision, stored in the transaction that issued it, with its own SHA-256 (hex). */
+export const revisionPdfs = pgTable(
+  'revision_pdfs',
+  {
+    revisionId: integer('revision_id')
+      .primaryKey()
+      .references(() => sheetRevisions.id),
+    bytes: bytea('bytes').notNull(),
+    sha256: text('sha256').notNull(),
+    fileName: text('file_name').notNull(),
+    pages: integer('pages'),
+    createdAt: createdAt(),
+  },
+  (table) => [index('revision_pdfs_sha256').on(table.sha256)],
+)
+
+/** One issue of a whole package: its purpose, who issued it, the PDF of the package and the revisions it holds. */
+export const packageIssues = pgTable(
+  'package_issues',
+  {
+    id: serial('id').primaryKey(),
+    packageId: integer('package_id')
+      .notNull()
+      .references(() => packages.id),
+    purpose: text('purpose').notNull(),
+    issuedBy: integer('issued_by')
+      .notNull()
+      .references(() => people.id),
+    issuedAt: timestamp('issued_at', { withTimezone: true }).notNull(),
+    /** The revisions issued (or carried, already issued) in this package, in the package's sheet order. */
+    revisionIds: integer('revision_ids').array().notNull(),
+    bytes: bytea('bytes').notNull(),
+    sha256: text('sha256').notNull(),
+    fileName: text('file_name').notNull(),
+    pages: integer('pages'),
+  },
+  (table) => [
+    index('package_issues_package').on(table.packageId),
+    check('package_issues_purpose_known', sql`${table.purpose} in ('information', 'review', 'implementation')`),
   ],
 )

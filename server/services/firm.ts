@@ -13,6 +13,7 @@ function toSettings(row: typeof firmSettings.$inferSelect): FirmSettings {
     sheetNumbering: row.sheetNumbering,
     paperSize: row.paperSize as FirmSettings['paperSize'],
     defaultCautions: row.defaultCautions,
+    revisionLabelRule: row.revisionLabelRule as FirmSettings['revisionLabelRule'],
   }
 }
 

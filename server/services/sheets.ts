@@ -5,7 +5,7 @@
 import { and, asc, desc, eq, ilike, inArray, or, sql, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/pg-core'
 import { createError } from 'h3'
-import { organisations, packages, people, projectMembers, projects, sheetRevisions, sheets } from '../db/schema'
+import { organisations, packages, people, projectMembers, projects, revisionEditors, sheetRevisions, sheets } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { Page } from '../../shared/schemas/lists'
 import type { ProjectRole, Role } from '../../shared/schemas/roles'
@@ -28,6 +28,7 @@ import { ENGINE_VERSION } from '../../shared/calc/version'
 import { recordAuditEvent, type AuditContext } from './audit-trail'
 import { readFirmSettings } from './firm'
 import { formatSheetNumber } from '../../shared/schemas/firm'
+import { lifecycleView } from './lifecycle'
 
 export interface Viewer {
   id: number
@@ -297,8 +298,8 @@ async function loadSheet(db: Pick<Database, 'select'>, sheetId: number) {
 }
 type LoadedSheet = NonNullable<Awaited<ReturnType<typeof loadSheet>>>
 
-async function detailOf(db: Database, row: LoadedSheet, access: Access): Promise<SheetDetail> {
-  const firm = await readFirmSettings(db)
+async function detailOf(db: Database, row: LoadedSheet, access: Access, viewer: Viewer): Promise<SheetDetail> {
+  const [firm, lifecycle] = await Promise.all([readFirmSettings(db), lifecycleView(db, row.id, viewer)])
   const { revision } = row
   const status = revision.status as SheetStatus
   return {
@@ -319,6 +320,7 @@ async function detailOf(db: Database, row: LoadedSheet, access: Access): Promise
     },
     firm: { name: firm.name, paperSize: firm.paperSize, defaultCautions: firm.defaultCautions },
     canEdit: access.write && editableStatuses.includes(status),
+    lifecycle: lifecycle!,
   }
 }
 
@@ -337,7 +339,7 @@ async function sheetFor(db: Database, sheetId: number, viewer: Viewer) {
 export async function viewSheet(db: Database, sheetId: number, viewer: Viewer): Promise<SheetDetail | Refused> {
   const found = await sheetFor(db, sheetId, viewer)
   if (isRefused(found)) return found
-  return detailOf(db, found.row, found.access)
+  return detailOf(db, found.row, found.access, viewer)
 }
 
 // ---------------------------------------------------------------------------------------------------------------
@@ -460,7 +462,7 @@ export async function createSheet(
         currentEditedBy: viewer.id,
       })
       .returning({ id: sheets.id })
-    await tx.insert(sheetRevisions).values({
+    const [revision] = await tx.insert(sheetRevisions).values({
       sheetId: sheet!.id,
       revisionIndex: 0,
       status: 'draft',
@@ -470,7 +472,9 @@ export async function createSheet(
       engineVersion: ENGINE_VERSION,
       preparedBy: viewer.id,
       editedBy: viewer.id,
-    })
+    }).returning({ id: sheetRevisions.id })
+    // Who made a revision may not check it (server/services/lifecycle.ts).
+    await tx.insert(revisionEditors).values({ revisionId: revision!.id, personId: viewer.id })
     await recordAuditEvent(tx, context, {
       action: 'sheet.created',
       subjectType: 'sheet',
@@ -507,6 +511,9 @@ export async function saveSheet(
   if (!computation.ok && computation.kind !== 'engine') answerRefusal(computation)
 
   const saved = await db.transaction(async (tx) => {
+    // The sheet's row lock first, then the revision's (the UPDATE): the order every transition takes them in
+    // (server/services/lifecycle.ts), so a save racing a transition waits, never deadlocks.
+    await tx.select({ id: sheets.id }).from(sheets).where(eq(sheets.id, sheetId)).for('update')
     const [updated] = await tx
       .update(sheetRevisions)
       .set({
@@ -526,6 +533,8 @@ export async function saveSheet(
       )
       .returning({ version: sheetRevisions.version })
     if (!updated) return null
+    // Everyone who edited a revision, so none of them checks it.
+    await tx.insert(revisionEditors).values({ revisionId: row.revision.id, personId: viewer.id }).onConflictDoNothing()
     if (body.title !== undefined || body.loopTag !== undefined) {
       await tx
         .update(sheets)
@@ -541,7 +550,7 @@ export async function saveSheet(
     return updated
   })
   if (!saved) await conflict(db, sheetId, viewer, context, body.version)
-  return detailOf(db, (await loadSheet(db, sheetId))!, access)
+  return detailOf(db, (await loadSheet(db, sheetId))!, access, viewer)
 }
 
 /** 409 with the sheet as stored, so the editor can set it beside the engineer's unsaved edits. */

@@ -3,6 +3,7 @@ import { listQuerySchema, type Page } from './lists'
 import { sheetDocumentSchema, sheetStatuses, type SheetDocument, type SheetStatus } from './sheet'
 import { idSchema, isStorableText, MAX_ID, plainText, storableTextMessage } from './text'
 import type { FirmSettings } from './firm'
+import type { LifecycleView } from './lifecycle'
 
 /**
  * Bodies, queries and answers of the sheet and package routes (DEVELOPERS.md, "API"). The sheet document itself
@@ -172,6 +173,8 @@ export interface SheetDetail {
   firm: { name: string; paperSize: FirmSettings['paperSize']; defaultCautions: string[] }
   /** The viewer may save this revision (an engineer member, on a draft or returned revision). */
   canEdit: boolean
+  /** The revision's life: what the viewer may do next (or why not), its signatures and whether they hold. */
+  lifecycle: LifecycleView
 }
 
 /** POST /api/projects/[id]/sheets answers 201 with this. */

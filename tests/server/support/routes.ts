@@ -3,6 +3,7 @@
 // every caller → the status of the row) and bad-input.test.ts (every route × every caller it admits × each bad
 // shape → a 4xx, never a 500). A new route gets its row here the day it is written (DEVELOPERS.md, "Route table").
 import type { Role } from '../../../shared/schemas/roles'
+import { demoPassword } from '../../../scripts/demo-people'
 import { Client, database, demo, mailTo, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
@@ -120,6 +121,8 @@ interface Elsewhere {
   engineer: Client
   checker: Client
   client: Client
+  /** The passwords of its engineer and checker, for the samples that sign. */
+  passwords: Record<'engineer' | 'checker' | 'client', string>
 }
 
 /**
@@ -169,13 +172,15 @@ export class Kit {
       const project = await this.admin.post('/api/projects', { number: projectNumber, name: projectName, organisationId: organisation.body.id })
       if (project.status !== 201) throw new Error(`creating the other project answered ${project.status}`)
       const members = {} as Record<'engineer' | 'checker' | 'client', Client>
+      const passwords = {} as Record<'engineer' | 'checker' | 'client', string>
       for (const role of ['engineer', 'checker', 'client'] as const) {
         const person = await newPerson(this.admin, [role], { name: `Outside ${role} ${projectNumber}`, organisationId: role === 'client' ? organisation.body.id : undefined })
         const added = await this.admin.post(`/api/projects/${project.body.id}/members`, { personId: person.id, role })
         if (added.status !== 201) throw new Error(`adding the other project's ${role} answered ${added.status}`)
         members[role] = await signedIn(person.email, person.password)
+        passwords[role] = person.password
       }
-      return { organisationId: organisation.body.id, organisationName, projectId: project.body.id, projectNumber, projectName, ...members }
+      return { organisationId: organisation.body.id, organisationName, projectId: project.body.id, projectNumber, projectName, passwords, ...members }
     })
   }
 
@@ -313,6 +318,32 @@ export class Kit {
       if (answer.status !== 201) throw new Error(`commenting answered ${answer.status}`)
       return answer.body.comments.at(-1).id as number
     })
+  /**
+   * A new sheet of this place's project prepared by its engineer, taken through its life to `status` with the routes of
+   * server/services/lifecycle.ts; answers its id and the version the next action names.
+   */
+  async sheetAt(status: 'draft' | 'in check' | 'approved' | 'issued', packageId?: number): Promise<{ id: number; version: number }> {
+    const engineer = await this.engineer()
+    const created = await engineer.post(`/api/projects/${await this.demoProjectId()}/sheets`, { title: unique('Route table life '), loopTag: 'TIC-214-97', packageId })
+    if (created.status !== 201) throw new Error(`creating a sample sheet answered ${created.status}`)
+    const id = created.body.id as number
+    const step = async (who: Client, action: string, body: Record<string, unknown>) => {
+      const answer = await who.post(`/api/sheets/${id}/${action}`, { version: 1, ...body })
+      if (answer.status !== 200) throw new Error(`${action} of a sample sheet answered ${answer.status}: ${JSON.stringify(answer.body)}`)
+    }
+    if (status !== 'draft') await step(engineer, 'submit', {})
+    const password = async (role: 'engineer' | 'checker') => (this.place === 'elsewhere' ? (await this.other()).passwords[role] : demoPassword)
+    if (status === 'approved' || status === 'issued') await step(await this.checker(), 'approve', { password: await password('checker') })
+    if (status === 'issued') await step(engineer, 'issue', { purpose: 'review', password: await password('engineer') })
+    return { id, version: 1 }
+  }
+  /** A new package of this place's project holding one approved sheet; answers the body of its issue. */
+  async approvedPackage(): Promise<{ id: number; sheets: Array<{ sheetId: number; version: number }> }> {
+    const engineer = await this.engineer()
+    const made = await engineer.post(`/api/projects/${await this.demoProjectId()}/packages`, { title: unique('Route table package ') })
+    if (made.status !== 201) throw new Error(`creating a sample package answered ${made.status}`)
+    const sheet = await this.sheetAt('approved', made.body.id)
+    return { id: made.body.id, sheets: [{ sheetId: sheet.id, version: sheet.version }] }
   }
   firmSettings(): Promise<unknown> {
     return this.onceForBoth('firm', async () => (await this.admin.get('/api/firm')).body)
@@ -526,6 +557,54 @@ export const routes: RouteRow[] = [
     scope: 'project',
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
+  },
+  // A sheet's life (server/services/lifecycle.ts): each call gets a new sheet in the state the action leaves. The
+  // demo admin is no member of NWD-214, so acts on none; the client never sees a sheet before it is issued.
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/submit',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('draft')).id) }, body: { version: 1 } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/return',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 403, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('in check')).id) }, body: { version: 1, reason: 'See the comments on the plant model.' } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/approve',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 403, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('in check')).id) }, body: { version: 1, password: demoPassword } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/issue',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('approved')).id) }, body: { version: 1, purpose: 'review', password: demoPassword } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/revise',
+    scope: 'project',
+    // An issued revision: the client may see it, but only an engineer member starts the next one.
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sheetAt('issued')).id) }, body: { version: 1 } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/packages/[id]/issue',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => {
+      const made = await kit.approvedPackage()
+      return { params: { id: String(made.id) }, body: { purpose: 'information', password: demoPassword, sheets: made.sheets } }
+    },
   },
   { method: 'GET', route: '/api/templates', expect: onlyRoles(200, 'engineer', 'checker', 'admin'), prepare: async () => ({}) },
   {
