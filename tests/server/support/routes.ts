@@ -160,6 +160,11 @@ export class Kit {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
   }
+  /** The id of the sample sheet's revision (a draft). */
+  async sampleRevisionId(): Promise<number> {
+    const [row] = await database()`select id from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
+    return row!.id as number
+  }
   firmSettings(): Promise<unknown> {
     return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
   }
@@ -367,6 +372,20 @@ export const routes: RouteRow[] = [
     route: '/api/templates/[name]',
     expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
     prepare: async () => ({ params: { name: 'pi-pressure-loop' } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/revisions/[id]/pdf',
+    // A draft's preview: a client never sees one; the issued case is in tests/server/pdf.test.ts.
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.sampleRevisionId()) } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/print/[token]',
+    // The PDF renderer's own route: only a render token its process made opens it, never a session.
+    expect: everyone(403),
+    prepare: async () => ({ params: { token: 'not-a-render-token.x' } }),
   },
 ]
 
