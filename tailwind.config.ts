@@ -58,8 +58,8 @@ export default {
         },
       },
       fontFamily: {
-        sans: ['"Noto Sans"', 'system-ui', 'sans-serif'],
-        serif: ['"Noto Serif"', 'Georgia', 'serif'],
+        sans: ['"Noto Sans"', '"Noto Sans Math"', 'system-ui', 'sans-serif'],
+        serif: ['"Noto Serif"', '"Noto Sans Math"', 'Georgia', 'serif'],
         mono: ['"Noto Sans Mono"', 'ui-monospace', 'monospace'],
       },
       // A 1.2 ratio on a 15 px body: small enough for dense tables, calm for reading.

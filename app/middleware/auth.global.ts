@@ -5,6 +5,8 @@ export default defineNuxtRouteMiddleware((to) => {
     if (loggedIn.value && to.path === '/sign-in') return navigateTo('/')
     return
   }
+  // The print view opened by the PDF renderer carries a render token; its data route checks the token itself.
+  if (to.meta.renderable && typeof to.query.render === 'string') return
   if (!loggedIn.value) {
     const next = to.fullPath !== '/' ? { next: to.fullPath } : undefined
     return navigateTo({ path: '/sign-in', query: next })

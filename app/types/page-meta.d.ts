@@ -7,6 +7,8 @@ declare module '#app' {
     public?: boolean
     /** Roles of which a person needs at least one to open the page (middleware 'role'). */
     roles?: Role[]
+    /** Opens without a session when it carries a render token (the PDF renderer: the print view). */
+    renderable?: boolean
   }
 }
 

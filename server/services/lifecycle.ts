@@ -641,7 +641,7 @@ export async function issuePackage(db: Database, packageId: number, body: Packag
   const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
   for (const state of first.fresh) pdfs.set(state.revision.id, await renderer.renderSheetPdf(state.revision.id, { issue: stamp(first.labels.get(state.sheet.id)!) }))
   const revisionIds = first.ordered.map((state) => state.revision.id)
-  const packagePdf = await renderer.renderPackagePdf(packageId, { issue: stamp(''), revisionIds })
+  const packagePdf = await renderer.renderPackagePdf(packageId, { issue: stamp(''), revisionIds, parts: new Map([...pdfs].map(([id, pdf]) => [id, pdf.bytes])) })
 
   const outcome = await db.transaction(async (tx) => {
     await tx.select({ id: packages.id }).from(packages).where(eq(packages.id, packageId)).for('update')

@@ -255,7 +255,9 @@ export async function listCheckQueue(db: Database, viewer: Viewer): Promise<Chec
 
 const preparer = alias(people, 'preparer')
 
-async function loadSheet(db: Pick<Database, 'select'>, sheetId: number) {
+/** The sheet with its current revision, or (`revisionId`) with that revision of it. */
+async function loadSheet(db: Pick<Database, 'select'>, sheetId: number | null, revisionId?: number) {
+  const which = revisionId === undefined ? eq(current.revisionIndex, sheets.currentRevisionIndex) : eq(current.id, revisionId)
   const [row] = await db
     .select({
       id: sheets.id,
@@ -289,11 +291,11 @@ async function loadSheet(db: Pick<Database, 'select'>, sheetId: number) {
     .from(sheets)
     .innerJoin(projects, eq(projects.id, sheets.projectId))
     .innerJoin(organisations, eq(organisations.id, projects.organisationId))
-    .innerJoin(current, and(eq(current.sheetId, sheets.id), eq(current.revisionIndex, sheets.currentRevisionIndex)))
+    .innerJoin(current, and(eq(current.sheetId, sheets.id), which))
     .innerJoin(preparer, eq(preparer.id, current.preparedBy))
     .innerJoin(editor, eq(editor.id, current.editedBy))
     .leftJoin(packages, eq(packages.id, sheets.packageId))
-    .where(eq(sheets.id, sheetId))
+    .where(sheetId === null ? undefined : eq(sheets.id, sheetId))
   return row ?? null
 }
 type LoadedSheet = NonNullable<Awaited<ReturnType<typeof loadSheet>>>
@@ -333,6 +335,30 @@ async function sheetFor(db: Database, sheetId: number, viewer: Viewer) {
   const status = row.revision.status as SheetStatus
   if (!access.drafts && !clientVisibleStatuses.includes(status)) return refused('This sheet is not issued', { sheetId, status })
   return { row, access }
+}
+
+/**
+ * One revision of a sheet, as the print view shows it, with no viewer: the PDF renderer's (a render token names
+ * the revision, server/utils/render-token.ts). Null when there is no such revision.
+ */
+export async function revisionDetail(db: Database, revisionId: number): Promise<SheetDetail | null> {
+  const row = await loadSheet(db, null, revisionId)
+  // Nobody acts through the renderer: a viewer of no roles, so every action reads as not allowed.
+  return row ? detailOf(db, row, { read: true, drafts: true, write: false }, { id: 0, roles: [] }) : null
+}
+
+/**
+ * Who may read revision `revisionId` and its PDF: as the sheet (a client only an issued or superseded revision, of
+ * a project they are a client member of). Answers the detail, or `Refused`; 404 when there is no such revision.
+ */
+export async function viewRevision(db: Database, revisionId: number, viewer: Viewer): Promise<SheetDetail | Refused> {
+  const row = await loadSheet(db, null, revisionId)
+  if (!row) throw createError({ statusCode: 404, statusMessage: 'No such revision' })
+  const access = accessOf(viewer, await memberRoles(db, row.projectId, viewer))
+  if (!access.read) return refused('You are not a member of this sheet’s project', { revisionId })
+  const status = row.revision.status as SheetStatus
+  if (!access.drafts && !clientVisibleStatuses.includes(status)) return refused('This revision is not issued', { revisionId, status })
+  return detailOf(db, row, access, viewer)
 }
 
 /** GET /api/sheets/[id] */

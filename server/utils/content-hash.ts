@@ -1,5 +1,6 @@
-// The hash a signature binds to: SHA-256 (hex) of the document in the canonical JSON form of RFC 8785 (JCS),
-// by the npm package `canonicalize`, so the same content always hashes the same, whatever jsonb's key order.
+// The hash a signature binds to (issue 8): SHA-256 (lowercase hex) of the sheet document in the canonical JSON of
+// RFC 8785 (JSON Canonicalization Scheme, by the npm package `canonicalize`), so the same content always hashes
+// the same, whatever jsonb's key order. The signatures and the printed PDF use this one function.
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 
@@ -10,3 +11,6 @@ export function contentHash(document: unknown): string {
 }
 
 export const sha256Hex = (bytes: Uint8Array): string => createHash('sha256').update(bytes).digest('hex')
+
+/** The first 12 hex digits: what a printed page and a person's eye compare (48 bits). */
+export const shortHash = (hash: string) => hash.slice(0, 12)

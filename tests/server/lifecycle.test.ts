@@ -123,6 +123,24 @@ describe('the life of one sheet', () => {
   })
 })
 
+describe('comments and approval', () => {
+  it('refuses approval while a comment is open, and approves once it is resolved', async () => {
+    const sheet = await newSheet(cast.engineer, cast.demoProjectId)
+    const v = sheet.detail.revision.version
+    expect((await act(cast.engineer, sheet.id, 'submit', { version: v })).status).toBe(200)
+    const revisionId = sheet.detail.revision.id as number
+    const commented = await cast.checker.post(`/api/revisions/${revisionId}/comments`, { version: v, anchorKind: 'section', anchor: 'scope', body: 'Name the transmitter.' })
+    expect(commented.status).toBe(201)
+    const commentId = commented.body.comments.at(-1).id
+    const blocked = await act(cast.checker, sheet.id, 'approve', { version: v, password: demoPassword })
+    expect(blocked.status).toBe(409)
+    expect(blocked.body.message).toContain('still open')
+    expect((await cast.checker.get(`/api/sheets/${sheet.id}`)).body.lifecycle.actions.approve.reason).toContain('One comment is still open')
+    expect((await cast.checker.patch(`/api/comments/${commentId}`, { action: 'resolve', version: v })).status).toBe(200)
+    expect((await act(cast.checker, sheet.id, 'approve', { version: v, password: demoPassword })).status).toBe(200)
+  })
+})
+
 describe('issued work is frozen by the database', () => {
   it('refuses UPDATE and DELETE of an issued revision, a signature and a stored PDF in plain SQL', async () => {
     const sheet = await newSheet(cast.engineer, cast.demoProjectId)

@@ -42,6 +42,10 @@ export class Client {
     })
     const setCookie = answer.headers.get('set-cookie')
     if (setCookie) this.cookie = setCookie.split(';')[0]!.endsWith('=') ? '' : setCookie.split(';')[0]!
+    // A PDF (GET /api/revisions/[id]/pdf) comes back as its bytes; everything else is JSON.
+    if (answer.headers.get('content-type')?.startsWith('application/pdf')) {
+      return { status: answer.status, body: Buffer.from(await answer.arrayBuffer()) as T, headers: answer.headers }
+    }
     const text = await answer.text()
     return { status: answer.status, body: text ? JSON.parse(text) : null, headers: answer.headers }
   }

@@ -318,6 +318,7 @@ export class Kit {
       if (answer.status !== 201) throw new Error(`commenting answered ${answer.status}`)
       return answer.body.comments.at(-1).id as number
     })
+  }
   /**
    * A new sheet of this place's project prepared by its engineer, taken through its life to `status` with the routes of
    * server/services/lifecycle.ts; answers its id and the version the next action names.
@@ -344,6 +345,11 @@ export class Kit {
     if (made.status !== 201) throw new Error(`creating a sample package answered ${made.status}`)
     const sheet = await this.sheetAt('approved', made.body.id)
     return { id: made.body.id, sheets: [{ sheetId: sheet.id, version: sheet.version }] }
+  }
+  /** The id of the sample sheet's revision (a draft). */
+  async sampleRevisionId(): Promise<number> {
+    const [row] = await database()`select id from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
+    return row!.id as number
   }
   firmSettings(): Promise<unknown> {
     return this.onceForBoth('firm', async () => (await this.admin.get('/api/firm')).body)
@@ -664,6 +670,21 @@ export const routes: RouteRow[] = [
     scope: 'project',
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleRevisionInCheck()).revisionId) } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/revisions/[id]/pdf',
+    scope: 'project',
+    // A draft's preview: a client never sees one; the issued case is in tests/server/pdf.test.ts.
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.sampleRevisionId()) } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/print/[token]',
+    // The PDF renderer's own route: only a render token its process made opens it, never a session.
+    expect: everyone(403),
+    prepare: async () => ({ params: { token: 'not-a-render-token.x' } }),
   },
 ]
 

@@ -1,0 +1,35 @@
+import { renderSheetPdf, RenderError } from '../../../services/pdf-render'
+import { viewRevision } from '../../../services/sheets'
+import { revisionPdfs } from '../../../db/schema'
+import { eq } from 'drizzle-orm'
+
+/**
+ * GET /api/revisions/[id]/pdf: the revision's PDF. A draft, a revision in check, returned or approved: a preview
+ * rendered now, inline (it opens in the browser). An issued or superseded one: the PDF stored when it was issued
+ * (revision_pdfs), attached. Clients only issued revisions of their own projects. Audited.
+ */
+export default defineEventHandler(async (event) => {
+  const viewer = await requireRole(event)
+  const { id } = await getValidatedRouterParams(event, parseWith(idParams))
+  const detail = await unlessRefused(event, await viewRevision(useDb(), id, viewer))
+  const issued = ['issued', 'superseded'].includes(detail.revision.status)
+  const [stored] = issued ? await useDb().select().from(revisionPdfs).where(eq(revisionPdfs.revisionId, id)) : []
+  const pdf = stored
+    ? { bytes: stored.bytes, sha256: stored.sha256, pages: stored.pages ?? 0, fileName: stored.fileName, blockedRequests: [] as string[] }
+    : await renderSheetPdf(id).catch((error: unknown) => {
+        throw createError({ statusCode: 503, statusMessage: 'The PDF could not be made now', message: error instanceof RenderError ? error.message : 'The renderer failed' })
+      })
+  await audit(event, {
+    action: 'pdf.downloaded',
+    subjectType: 'sheet_revision',
+    subjectId: id,
+    detail: { sheetId: detail.id, fileName: pdf.fileName, sha256: pdf.sha256, pages: pdf.pages, preview: !issued, stored: Boolean(stored), blockedRequests: pdf.blockedRequests },
+  })
+  setResponseHeaders(event, {
+    'content-type': 'application/pdf',
+    'content-disposition': `${issued ? 'attachment' : 'inline'}; filename="${pdf.fileName}"`,
+    'x-content-sha256': pdf.sha256,
+    'cache-control': 'private, no-store',
+  })
+  return pdf.bytes
+})

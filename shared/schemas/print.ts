@@ -1,0 +1,59 @@
+// The print view's data when the PDF renderer opens it (GET /api/print/[token]), and the rule that names a PDF.
+import { z } from 'zod'
+import type { SheetStatus } from './sheet'
+import type { SheetDetail } from './sheets'
+import { plainText } from './text'
+
+/** GET /api/print/[token]: the render token of server/utils/render-token.ts. */
+export const printDataQuerySchema = z.object({ token: plainText(4000, 1, 'A render token is needed') })
+
+/** The issue a render is made for: given by the issue step before the revision row says issued. */
+export interface PrintIssue {
+  label: string
+  purpose: string
+  issuedBy: string
+  /** ISO 8601, UTC. */
+  issuedAt: string
+}
+
+/** A signature as the PDF prints it: who, in which role, what it means, when (UTC), and whether it still holds. */
+export interface PrintSignature {
+  name: string
+  role: string
+  meaning: string
+  signedAt: string
+  holds: boolean
+}
+
+export interface PrintHistoryRow {
+  index: number
+  label: string | null
+  status: SheetStatus
+  createdAt: string
+  preparedBy: string
+}
+
+export interface PrintSheet extends SheetDetail {
+  /** Every revision of the sheet up to this one, oldest first. */
+  history: PrintHistoryRow[]
+  signatures: PrintSignature[]
+  /** Set on an issued (or being issued, or superseded) revision: what the issued PDF's last page states. */
+  issue: (Partial<PrintIssue> & { label: string; contentHash: string; verifyUrl: string }) | null
+}
+
+/** `[A-Za-z0-9._-]` only, so the name is the same on every file system and in every header. */
+const fileSafe = (text: string) => text.replace(/[^A-Za-z0-9._-]+/g, '-').replace(/^-+|-+$/g, '')
+
+/**
+ * The firm's rule for PDF names: `NWD-214-03_rev-A.pdf` for an issued revision (sheet number, revision label);
+ * `NWD-214-03_rev-0-draft_preview.pdf` for one not issued, so a preview is never mistaken for an issue.
+ */
+export function sheetPdfFileName(sheetNumber: string, revision: { index: number; label: string | null; status: SheetStatus }): string {
+  if (revision.label) return `${fileSafe(sheetNumber)}_rev-${fileSafe(revision.label)}.pdf`
+  return `${fileSafe(sheetNumber)}_rev-${revision.index}-${fileSafe(revision.status)}_preview.pdf`
+}
+
+/** `NWD-214_P01_rev-A.pdf`: project number, package number, the revision label of the issue. */
+export function packagePdfFileName(projectNumber: string, packageNumber: string, label: string | null): string {
+  return `${fileSafe(projectNumber)}_${fileSafe(packageNumber)}${label ? `_rev-${fileSafe(label)}` : '_preview'}.pdf`
+}
