@@ -160,6 +160,14 @@ export class Kit {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
   }
+  /** A waiting job of a kind no runner handles, owned by the demo engineer. */
+  engineerJob(): Promise<number> {
+    return this.once('job', async () => {
+      const owner = await this.personId(demo.engineer)
+      const [row] = await database()`insert into jobs (kind, payload, created_by) values ('route-table.sample', '{}'::jsonb, ${owner}) returning id`
+      return Number(row!.id)
+    })
+  }
   firmSettings(): Promise<unknown> {
     return this.once('firm', async () => (await this.admin.get('/api/firm')).body)
   }
@@ -360,6 +368,13 @@ export const routes: RouteRow[] = [
     route: '/api/projects/[id]/packages',
     expect: onlyRoles(201, 'engineer'),
     prepare: async (kit) => ({ params: { id: String(await kit.demoProjectId()) }, body: { title: unique('Route table package ') } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/jobs/[id]',
+    // A job is its owner's alone (its progress bar): the demo engineer's job, refused to everyone else.
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.engineerJob()) } }),
   },
   { method: 'GET', route: '/api/templates', expect: onlyRoles(200, 'engineer', 'checker', 'admin'), prepare: async () => ({}) },
   {
