@@ -3,7 +3,7 @@
 // every caller → the status of the row) and bad-input.test.ts (every route × every caller it admits × each bad
 // shape → a 4xx, never a 500). A new route gets its row here the day it is written (DEVELOPERS.md, "Route table").
 import type { Role } from '../../../shared/schemas/roles'
-import { Client, database, demo, mailTo, newPerson, signedIn, unique } from './client'
+import { Client, database, demo, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
 export const callers = ['signedOut', 'admin', 'engineer', 'checker', 'client'] as const
@@ -160,6 +160,21 @@ export class Kit {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.version as number
   }
+  /** The token of a new reset link of a new person, from the e-mail (asked from an address of its own: the throttle). */
+  async newResetToken(): Promise<string> {
+    const person = await newPerson(this.admin, ['engineer'])
+    const asked = await new Client('127.0.0.77').post('/api/auth/reset-request', { email: person.email })
+    if (asked.status !== 202) throw new Error(`a reset request answered ${asked.status}`)
+    const message = (await mailTo(person.email)).find((mail) => mail.subject === 'Reset your Loopwright password')
+    if (!message) {
+      const later = await mailWithSubject(person.email, 'Reset your Loopwright password', 0)
+      return later[0]!.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1]!
+    }
+    return message.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1]!
+  }
+  resetToken(): Promise<string> {
+    return this.once('reset', () => this.newResetToken())
+  }
   /** A waiting job of a kind no runner handles, owned by the demo engineer. */
   engineerJob(): Promise<number> {
     return this.once('job', async () => {
@@ -215,6 +230,25 @@ export const routes: RouteRow[] = [
       params: { token: await kit.newInvitationToken() },
       body: { password: 'route-table-sample-1', confirm: 'route-table-sample-1' },
     }),
+  },
+  {
+    method: 'POST',
+    route: '/api/auth/reset-request',
+    // The same answer for every caller and every address (no account enumeration).
+    expect: everyone(202),
+    prepare: async () => ({ body: { email: `${unique('nobody')}@example.com` } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/auth/reset/[token]',
+    expect: everyone(200),
+    prepare: async (kit) => ({ params: { token: await kit.resetToken() } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/auth/reset/[token]',
+    expect: everyone(204),
+    prepare: async (kit) => ({ params: { token: await kit.newResetToken() }, body: { password: 'route-table-reset-1', confirm: 'route-table-reset-1' } }),
   },
   { method: 'GET', route: '/api/people', expect: onlyRoles(200, 'admin'), list: true, prepare: async () => ({}) },
   {
