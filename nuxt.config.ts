@@ -19,6 +19,10 @@ export default defineNuxtConfig({
     databaseUrl: '',
     smtpHost: '127.0.0.1',
     smtpPort: 0,
+    // The outbox worker and the job runner (server/plugins/background-work.ts); NUXT_OUTBOX_RETRY_BASE_MS etc.
+    // shorten them in tests. 0 keeps the defaults of server/services/outbox-worker.ts and jobs.ts.
+    outbox: { retryBaseMs: 0, claimSeconds: 0, maxAttempts: 0, pollMs: 0 },
+    jobs: { claimSeconds: 0, retryBaseMs: 0, pollMs: 0 },
     // The sealed cookie (nuxt-auth-utils) lives as long as the server-side session may:
     // absoluteLifetimeHours of server/services/sessions.ts (12 h), in seconds.
     session: { maxAge: 12 * 60 * 60 },

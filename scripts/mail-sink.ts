@@ -1,6 +1,6 @@
 // The local fake of the mail service: accepts every message over SMTP on loopback, stores it as JSON in
 // .data/mail/<smtp-port>/, and serves the messages back over HTTP so tests and people can read them:
-//   GET /messages[?to=address]   the stored messages, oldest first
+//   GET /messages[?to=address]   the stored messages, oldest first (each with its Message-ID header)
 //   DELETE /messages             removes them all
 // Run by scripts/mail-sink; not part of the app.
 import { mkdir, readdir, readFile, rm, writeFile } from 'node:fs/promises'
@@ -25,6 +25,8 @@ await mkdir(folder, { recursive: true })
 
 interface StoredMessage {
   id: string
+  /** The Message-ID header the sender gave (the outbox's `message_id`): tests count a message's copies by it. */
+  messageId: string | null
   receivedAt: string
   envelope: { from: string | null; to: string[] }
   from: string | null
@@ -50,6 +52,7 @@ const smtp = new SMTPServer({
         const receivedAt = new Date()
         const message: StoredMessage = {
           id: `${receivedAt.getTime()}-${randomUUID().slice(0, 8)}`,
+          messageId: parsed.messageId ?? null,
           receivedAt: receivedAt.toISOString(),
           envelope: {
             from: session.envelope.mailFrom ? session.envelope.mailFrom.address : null,

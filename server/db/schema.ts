@@ -486,3 +486,58 @@ export const packageIssues = pgTable(
     check('package_issues_purpose_known', sql`${table.purpose} in ('information', 'review', 'implementation')`),
   ],
 )
+
+// ---------------------------------------------------------------------------------------------------------------
+// Branch `mail` (issue 8, items 8 and 9): password resets and the client's acknowledgements of receipt.
+
+/**
+ * One-time password-reset links (POST /api/auth/reset-request): only the SHA-256 of the token is stored, the
+ * link works once and for one hour (server/services/password-resets.ts).
+ */
+export const passwordResets = pgTable(
+  'password_resets',
+  {
+    id: serial('id').primaryKey(),
+    personId: integer('person_id')
+      .notNull()
+      .references(() => people.id),
+    tokenHash: text('token_hash').notNull().unique(),
+    expiresAt: timestamp('expires_at', { withTimezone: true }).notNull(),
+    usedAt: timestamp('used_at', { withTimezone: true }),
+    ip: text('ip'),
+    createdAt: createdAt(),
+  },
+  (table) => [index('password_resets_person_created').on(table.personId, table.createdAt)],
+)
+
+/**
+ * Every reset request, whether or not the address has an account: the throttles count these rows, so what they
+ * answer never depends on the address (no account enumeration).
+ */
+export const passwordResetRequests = pgTable(
+  'password_reset_requests',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    email: text('email').notNull(),
+    ip: text('ip'),
+    at: timestamp('at', { withTimezone: true }).notNull().defaultNow(),
+  },
+  (table) => [index('password_reset_requests_ip_at').on(table.ip, table.at), index('password_reset_requests_email_at').on(table.email, table.at)],
+)
+
+/** A client's acknowledgement of receipt of an issued revision: once per person and revision, with its time. */
+export const acknowledgements = pgTable(
+  'acknowledgements',
+  {
+    id: serial('id').primaryKey(),
+    revisionId: integer('revision_id')
+      .notNull()
+      .references(() => sheetRevisions.id),
+    personId: integer('person_id')
+      .notNull()
+      .references(() => people.id),
+    at: timestamp('at', { withTimezone: true }).notNull().defaultNow(),
+    ip: text('ip'),
+  },
+  (table) => [uniqueIndex('acknowledgements_revision_person').on(table.revisionId, table.personId)],
+)

@@ -4,7 +4,7 @@
 // instead, so a browser holding a dead cookie can still sign in. A live session gets the person's current name.
 import { checkSession } from '../services/sessions'
 
-const signedOutRoutes = ['/api/auth/login', '/api/invitations/']
+const signedOutRoutes = ['/api/auth/login', '/api/invitations/', '/api/auth/reset']
 
 export default defineEventHandler(async (event) => {
   if (!event.path.startsWith('/api/')) return

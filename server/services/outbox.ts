@@ -1,6 +1,7 @@
 // E-mail through the outbox: a message is a row written in the caller's transaction, so it goes out if and only
 // if the change it tells of commits. The outbox worker (server/plugins/, issue 8) delivers the rows.
 import { randomUUID } from 'node:crypto'
+import { sql } from 'drizzle-orm'
 import { outbox } from '../db/schema'
 import type { Executor } from './audited'
 
@@ -11,6 +12,9 @@ export interface QueuedMail {
   subject: string
   text: string
 }
+
+/** The channel queueMail notifies at commit (server/plugins/background-work.ts listens). */
+export const OUTBOX_CHANNEL = 'loopwright_outbox'
 
 /** The Message-ID domain: ours, so the sink (and a real relay) sees one id per message, never reused. */
 const MESSAGE_ID_DOMAIN = 'loopwright.example.com'
@@ -26,5 +30,7 @@ export async function queueMail(tx: Executor, ...mails: QueuedMail[]): Promise<s
     body: mail.text,
   }))
   await tx.insert(outbox).values(rows)
+  // Delivered at commit (never if the change rolls back): an idle worker starts at once, not at its next poll.
+  await tx.execute(sql`select pg_notify(${OUTBOX_CHANNEL}, '')`)
   return rows.map((row) => row.messageId)
 }

@@ -6,12 +6,20 @@ import * as schema from '../db/schema'
 export type Database = PostgresJsDatabase<typeof schema>
 
 let database: Database | undefined
+let client: postgres.Sql | undefined
 
 export function useDb(): Database {
   if (!database) {
     const url = useRuntimeConfig().databaseUrl
     if (!url) throw new Error('runtimeConfig.databaseUrl is empty: set NUXT_DATABASE_URL (scripts/app-env)')
-    database = drizzle(postgres(url, { max: 10, onnotice: () => {} }), { schema })
+    client = postgres(url, { max: 10, onnotice: () => {} })
+    database = drizzle(client, { schema })
   }
   return database
+}
+
+/** The pool's own postgres.js client, for what drizzle does not wrap (LISTEN: server/plugins/background-work.ts). */
+export function useSqlClient(): postgres.Sql {
+  useDb()
+  return client!
 }

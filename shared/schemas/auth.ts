@@ -34,3 +34,10 @@ export const acceptInvitationSchema = z
     path: ['confirm'],
   })
 export type AcceptInvitationBody = z.infer<typeof acceptInvitationSchema>
+
+/** POST /api/auth/reset-request: the address to send a reset link to (the answer is the same whether it has an account). */
+export const resetRequestSchema = z.object({ email: emailSchema })
+export type ResetRequestBody = z.infer<typeof resetRequestSchema>
+
+/** POST /api/auth/reset/[token]: the new password, as on the invitation page. */
+export const resetPasswordSchema = acceptInvitationSchema

@@ -4,7 +4,7 @@
 // shape → a 4xx, never a 500). A new route gets its row here the day it is written (DEVELOPERS.md, "Route table").
 import type { Role } from '../../../shared/schemas/roles'
 import { demoPassword } from '../../../scripts/demo-people'
-import { Client, database, demo, mailTo, newPerson, signedIn, unique } from './client'
+import { Client, database, demo, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
 export const callers = ['signedOut', 'admin', 'engineer', 'checker', 'client'] as const
@@ -351,6 +351,31 @@ export class Kit {
     const [row] = await database()`select id from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
     return row!.id as number
   }
+  /** The token of a new reset link of a new person, from the e-mail (asked from an address of its own: the throttle). */
+  async newResetToken(): Promise<string> {
+    const person = await newPerson(this.admin, ['engineer'])
+    // A local address of its own each time: the reset throttle counts requests per client address.
+    const from = `127.0.${1 + Math.floor(Math.random() * 250)}.${1 + Math.floor(Math.random() * 250)}`
+    const asked = await new Client(from).post('/api/auth/reset-request', { email: person.email })
+    if (asked.status !== 202) throw new Error(`a reset request answered ${asked.status}`)
+    const message = (await mailTo(person.email)).find((mail) => mail.subject === 'Reset your Loopwright password')
+    if (!message) {
+      const later = await mailWithSubject(person.email, 'Reset your Loopwright password', 0)
+      return later[0]!.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1]!
+    }
+    return message.text.match(/\/reset-password\/([A-Za-z0-9_-]+)/)![1]!
+  }
+  resetToken(): Promise<string> {
+    return this.once('reset', () => this.newResetToken())
+  }
+  /** A waiting job of a kind no runner handles, owned by the demo engineer. */
+  engineerJob(): Promise<number> {
+    return this.once('job', async () => {
+      const owner = await this.personId(demo.engineer)
+      const [row] = await database()`insert into jobs (kind, payload, created_by) values ('route-table.sample', '{}'::jsonb, ${owner}) returning id`
+      return Number(row!.id)
+    })
+  }
   firmSettings(): Promise<unknown> {
     return this.onceForBoth('firm', async () => (await this.admin.get('/api/firm')).body)
   }
@@ -398,6 +423,25 @@ export const routes: RouteRow[] = [
       params: { token: await kit.newInvitationToken() },
       body: { password: 'route-table-sample-1', confirm: 'route-table-sample-1' },
     }),
+  },
+  {
+    method: 'POST',
+    route: '/api/auth/reset-request',
+    // The same answer for every caller and every address (no account enumeration).
+    expect: everyone(202),
+    prepare: async () => ({ body: { email: `${unique('nobody')}@example.com` } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/auth/reset/[token]',
+    expect: everyone(200),
+    prepare: async (kit) => ({ params: { token: await kit.resetToken() } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/auth/reset/[token]',
+    expect: everyone(204),
+    prepare: async (kit) => ({ params: { token: await kit.newResetToken() }, body: { password: 'route-table-reset-1', confirm: 'route-table-reset-1' } }),
   },
   { method: 'GET', route: '/api/people', expect: onlyRoles(200, 'admin'), list: true, prepare: async () => ({}) },
   {
@@ -611,6 +655,13 @@ export const routes: RouteRow[] = [
       const made = await kit.approvedPackage()
       return { params: { id: String(made.id) }, body: { purpose: 'information', password: demoPassword, sheets: made.sheets } }
     },
+  },
+  {
+    method: 'GET',
+    route: '/api/jobs/[id]',
+    // A job is its owner's alone (its progress bar): the demo engineer's job, refused to everyone else.
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.engineerJob()) } }),
   },
   { method: 'GET', route: '/api/templates', expect: onlyRoles(200, 'engineer', 'checker', 'admin'), prepare: async () => ({}) },
   {
