@@ -71,14 +71,17 @@ describe('writing comments', () => {
   })
 
   it('clients and outsiders never read comments (403, audited, nothing leaked)', async () => {
-    const path = `/api/revisions/${sheet.revisionId}/comments`
-    await setStatus(sheet.id, 'issued')
+    // A sheet of its own: an issued revision is never changed again (drizzle/0010), so it cannot go back in check.
+    const made = await newSheet(cast.engineer, cast.demoProjectId, { title: 'Booster discharge pressure, issued copy', loopTag: 'PIC-214-01', template: 'pi-pressure-loop' })
+    await setStatus(made.id, 'in check')
+    const path = `/api/revisions/${made.detail.revision.id}/comments`
+    expect((await cast.checker.post(path, { ...comment('section', 'scope'), version: made.detail.revision.version })).status).toBe(201)
+    await setStatus(made.id, 'issued')
     const client = await cast.client.get(path)
     expect(client.status).toBe(403)
     expect(JSON.stringify(client.body)).not.toContain('datasheet')
     expect(await lastAudit('access.refused', path)).toMatchObject({ status: 403 })
     expect((await cast.outsider.get(path)).status).toBe(403)
-    await setStatus(sheet.id, 'in check')
   })
 })
 

@@ -16,8 +16,12 @@ async function demoRows() {
     projects: await sql`select id, number, name, organisation_id, created_at from projects where number = 'NWD-214'`,
     people: await sql`select id, name, email, password_hash, roles, organisation_id, created_at from people
       where email in ${sql(emails)} order by id`,
-    members: await sql`select m.project_id, m.person_id, m.role from project_members m
-      join projects p on p.id = m.project_id where p.number = 'NWD-214' order by m.person_id, m.role`,
+    // The memberships the seed made: other test files add people (and roles) of their own to NWD-214 meanwhile.
+    members: (
+      await sql`select m.project_id, m.person_id, m.role, d.email from project_members m
+        join projects p on p.id = m.project_id join people d on d.id = m.person_id
+        where p.number = 'NWD-214' order by m.person_id, m.role`
+    ).filter((row) => demoPeople.some((person) => person.email === row.email && person.projectRole === row.role)),
     packages: await sql`select k.id, k.number, k.title, k.created_by from packages k
       join projects p on p.id = k.project_id where p.number = 'NWD-214' and k.title = 'Hollins Booster Station control loops'`,
     sheets: await sql`select s.id, s.number, s.title, s.loop_tag, s.package_id, s.created_by, r.revision_index, r.status, r.version,
