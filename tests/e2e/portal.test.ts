@@ -10,6 +10,8 @@ import { launchBrowser, screenshot, signIn, type TestBrowser } from './browser'
 
 let chromium: TestBrowser
 let revisionId: number
+/** Revises the sheet and issues its next revision through the routes. */
+let reissue: () => Promise<{ revisionId: number }>
 beforeAll(async () => {
   chromium = await launchBrowser()
   const engineer = await apiSignIn('tomas.okafor@example.com', demoPassword)
@@ -29,6 +31,12 @@ beforeAll(async () => {
   await step(engineer, 'submit', {})
   await step(checker, 'approve', { password: demoPassword })
   revisionId = (await step(engineer, 'issue', { purpose: 'implementation', password: demoPassword })).revisionId
+  reissue = async () => {
+    await step(engineer, 'revise', {})
+    await step(engineer, 'submit', {})
+    await step(checker, 'approve', { password: demoPassword })
+    return step(engineer, 'issue', { purpose: 'implementation', password: demoPassword })
+  }
 }, 120_000)
 afterAll(async () => {
   await chromium?.close()
@@ -66,6 +74,16 @@ describe('the client portal', () => {
     await page.reload({ waitUntil: 'networkidle0' })
     await page.waitForSelector(`${row} [data-acknowledged]`)
     expect(await page.$(`${row} [data-acknowledge]`)).toBeNull()
+
+    // The engineer starts and issues the next revision: the first is shown superseded, still acknowledged, and the
+    // new one is current, waiting for its own acknowledgement.
+    const next = (await reissue()).revisionId
+    await page.reload({ waitUntil: 'networkidle0' })
+    await page.waitForSelector(`[data-portal-revision="${next}"] [data-acknowledge]`)
+    expect(await page.$eval(`[data-portal-revision="${next}"]`, (element) => element.getAttribute('data-status'))).toBe('issued')
+    expect(await page.$eval(row, (element) => element.getAttribute('data-status'))).toBe('superseded')
+    expect(await page.$eval(row, (element) => (element as HTMLElement).innerText)).toContain('Superseded')
+    expect(await page.$(`${row} [data-acknowledged]`)).not.toBeNull()
     await screenshot(page, 'client-portal')
     await page.close()
   }, 120_000)
