@@ -140,6 +140,20 @@ describe('POST /api/revisions/[id]/acknowledge', () => {
     expect(listed.acknowledgedAt).toBe(at)
   })
 
+  it('records one acknowledgement when the same client sends two at once', async () => {
+    const [org] = await database()`select organisation_id from projects where id = ${cast.demoProjectId}`
+    const person = await newPerson(cast.admin, ['client'], { name: 'Second Northmere Client', organisationId: org!.organisation_id })
+    expect((await cast.admin.post(`/api/projects/${cast.demoProjectId}/members`, { personId: person.id, role: 'client' })).status).toBe(201)
+    const colleague = await signedIn(person.email, person.password)
+    const path = `/api/revisions/${current}/acknowledge`
+    const answers = await Promise.all([colleague.post(path, {}), colleague.post(path, {})])
+    expect(answers.map((answer) => answer.status)).toEqual([200, 200])
+    expect(answers.map((answer) => answer.body.recorded).sort()).toEqual([false, true])
+    expect(answers[0]!.body.acknowledgedAt).toBe(answers[1]!.body.acknowledgedAt)
+    const rows = await database()`select count(*)::int as n from acknowledgements where revision_id = ${current} and person_id = ${person.id}`
+    expect(rows[0]!.n).toBe(1)
+  })
+
   it('accepts a superseded revision', async () => {
     const answer = await cast.client.post(`/api/revisions/${superseded}/acknowledge`, {})
     expect(answer.status).toBe(200)
