@@ -88,7 +88,7 @@ export interface RouteRow {
  * Routes that act on a record of one project: their rows need `scope: 'project'`, so the matrix calls them as a
  * member and as a non-member (issue 8, "own project and another's").
  */
-export const projectScopedRoute = /^\/api\/(projects\/\[id\]|sheets\/\[id\]|packages\/\[id\]|revisions\/\[id\]|comments\/\[id\])/
+export const projectScopedRoute = /^\/api\/(projects\/\[id\]|sheets\/\[id\]|packages\/\[id\]|package-issues\/\[id\]|revisions\/\[id\]|comments\/\[id\])/
 
 /**
  * The status each caller gets for a record of a project they are not a member of: signed out as ever, an admin
@@ -345,6 +345,25 @@ export class Kit {
     if (made.status !== 201) throw new Error(`creating a sample package answered ${made.status}`)
     const sheet = await this.sheetAt('approved', made.body.id)
     return { id: made.body.id, sheets: [{ sheetId: sheet.id, version: sheet.version }] }
+  }
+  /** The revision of a sheet of this place's project taken to issued through the routes, made once. */
+  sampleIssuedRevision(): Promise<number> {
+    return this.once('issued revision', async () => {
+      const sheet = await this.sheetAt('issued')
+      const [row] = await database()`select id from sheet_revisions where sheet_id = ${sheet.id} and status = 'issued'`
+      return row!.id as number
+    })
+  }
+  /** One issue of a package of this place's project (one approved sheet), made once through the routes. */
+  samplePackageIssue(): Promise<number> {
+    return this.once('package issue', async () => {
+      const made = await this.approvedPackage()
+      const password = this.place === 'elsewhere' ? (await this.other()).passwords.engineer : demoPassword
+      const issued = await (await this.engineer()).post(`/api/packages/${made.id}/issue`, { purpose: 'information', password, sheets: made.sheets })
+      if (issued.status !== 200) throw new Error(`issuing a sample package answered ${issued.status}: ${JSON.stringify(issued.body)}`)
+      const [row] = await database()`select id from package_issues where package_id = ${made.id}`
+      return row!.id as number
+    })
   }
   /** The id of the sample sheet's revision (a draft). */
   async sampleRevisionId(): Promise<number> {
@@ -729,6 +748,23 @@ export const routes: RouteRow[] = [
     // A draft's preview: a client never sees one; the issued case is in tests/server/pdf.test.ts.
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String(await kit.sampleRevisionId()) } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/revisions/[id]/acknowledge',
+    scope: 'project',
+    // Only a client of the project's organisation acknowledges; once each, a repeat answers the first's time.
+    expect: { signedOut: 401, admin: 403, engineer: 403, checker: 403, client: 200 },
+    prepare: async (kit) => ({ params: { id: String(await kit.sampleIssuedRevision()) }, body: {} }),
+  },
+  // The client's portal: for a client only (tests/server/portal.test.ts).
+  { method: 'GET', route: '/api/portal', expect: onlyRoles(200, 'client'), prepare: async () => ({}) },
+  {
+    method: 'GET',
+    route: '/api/package-issues/[id]/pdf',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 200 },
+    prepare: async (kit) => ({ params: { id: String(await kit.samplePackageIssue()) } }),
   },
   {
     method: 'GET',
