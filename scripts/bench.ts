@@ -181,4 +181,8 @@ spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-s
 if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
   spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-editor.ts', import.meta.url))], { stdio: 'inherit' })
 else console.log('\nSheet editor benchmark skipped: the app is not built (run scripts/setup first).')
+// The PDF renderer: one demo sheet's render time and the app's peak memory with its browser (scripts/bench-pdf.ts).
+if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
+  spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-pdf.ts', import.meta.url))], { stdio: 'inherit' })
+else console.log('\nPDF benchmark skipped: the app is not built (run scripts/setup first).')
 console.log(`\n${failed.length === 0 ? 'All targets met.' : `${failed.length} target(s) not met: ${failed.join('; ')}.`} (The bench exits 0 either way: it reports, it does not gate.)`)

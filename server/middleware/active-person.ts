@@ -1,10 +1,10 @@
 // Every /api request that carries a session checks it against the `sessions` table (server/services/sessions.ts):
 // an unknown, revoked, idle or expired session, or one of a deactivated person, is cleared and answered 401,
-// and the refusal is audited. Routes that take no session (signing in, accepting an invitation) go on signed out
+// and the refusal is audited. Routes that take no session (signing in, accepting an invitation, verifying a PDF) go on signed out
 // instead, so a browser holding a dead cookie can still sign in. A live session gets the person's current name.
 import { checkSession } from '../services/sessions'
 
-const signedOutRoutes = ['/api/auth/login', '/api/invitations/', '/api/auth/reset']
+const signedOutRoutes = ['/api/auth/login', '/api/invitations/', '/api/auth/reset', '/api/verify']
 
 export default defineEventHandler(async (event) => {
   if (!event.path.startsWith('/api/')) return

@@ -1,4 +1,4 @@
-// Limits per person on routes a signed-in person could otherwise call without end.
+// Limits per person (or per client address, for routes open to everyone) on routes a signed-in person could otherwise call without end.
 // The counts live in this server process's memory (rate-limiter-flexible's RateLimiterMemory): a restart starts
 // them afresh, and were the app run as several processes each would keep its own. Acceptable for the one
 // process Loopwright runs as; a shared store (PostgreSQL) would be needed beyond that.
@@ -7,6 +7,12 @@ import { RateLimiterMemory, RateLimiterRes } from 'rate-limiter-flexible'
 
 /** POST /api/audit/page-refusals: 20 a minute per person, ample for a person clicking through refused pages. */
 export const pageRefusalLimit = new RateLimiterMemory({ keyPrefix: 'page-refusals', points: 20, duration: 60 })
+
+/**
+ * POST /api/verify: 30 lookups in 5 minutes per client address, ample for someone checking a stack of received
+ * PDFs by hand (a 20-sheet package and its sheets), and far too few to search the issued hashes.
+ */
+export const verifyLimit = new RateLimiterMemory({ keyPrefix: 'verify', points: 30, duration: 300 })
 
 /**
  * Takes one from `key`'s allowance, or answers 429 with `Retry-After` (whole seconds until the allowance is back).

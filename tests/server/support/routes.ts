@@ -2,6 +2,7 @@
 // routes-covered.test.ts (every file of server/api/ has a row), authorisation-matrix.test.ts (every route ×
 // every caller → the status of the row) and bad-input.test.ts (every route × every caller it admits × each bad
 // shape → a 4xx, never a 500). A new route gets its row here the day it is written (DEVELOPERS.md, "Route table").
+import { createHash } from 'node:crypto'
 import type { Role } from '../../../shared/schemas/roles'
 import { demoPassword } from '../../../scripts/demo-people'
 import { Client, database, demo, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
@@ -461,6 +462,13 @@ export const routes: RouteRow[] = [
     route: '/api/auth/reset/[token]',
     expect: everyone(204),
     prepare: async (kit) => ({ params: { token: await kit.newResetToken() }, body: { password: 'route-table-reset-1', confirm: 'route-table-reset-1' } }),
+  },
+  {
+    method: 'POST',
+    route: '/api/verify',
+    // Anyone holding a PDF may ask; a hash of nothing issued answers 200 { issued: false } all the same.
+    expect: everyone(200),
+    prepare: async () => ({ body: { sha256: createHash('sha256').update(unique('route table verify')).digest('hex') } }),
   },
   { method: 'GET', route: '/api/people', expect: onlyRoles(200, 'admin'), list: true, prepare: async () => ({}) },
   {

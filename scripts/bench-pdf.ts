@@ -1,0 +1,118 @@
+/**
+ * The PDF renderer's figures (issue 9, "Fast, and measured"), run by `npm run bench` after the engine's timings.
+ * The built app (.output, scripts/setup) on a database of its own (loopwright_bench, seeded with the demo data):
+ *   - one demo sheet, PIC-214-01 (the booster discharge pressure, a draft: its download is rendered now by
+ *     renderSheetPdf through Chromium), over HTTP as its engineer: two renders to warm the browser, then the
+ *     median wall time of ten, request to last byte;
+ *   - the peak resident memory of the app plus its Chromium while doing so: the app's process and all of its
+ *     descendants, sampled from /proc every 25 ms. RSS summed over processes counts pages they share (libraries,
+ *     Chromium's shared memory) once per process, so it is an upper bound; PSS (/proc/PID/smaps_rollup) divides
+ *     shared pages among their sharers and is printed beside it.
+ * Targets: a sheet in at most 0.5 s, the app with its browser under 600 MB. Exits 0 either way: it reports.
+ */
+import { readFileSync, readdirSync } from 'node:fs'
+import { cpus, loadavg } from 'node:os'
+import { instanceOf, start, stop } from '../tests/setup/app'
+import { demoPassword } from './demo-people'
+
+const RUNS = 10
+const WARM_UPS = 2
+const TARGET_S = 0.5
+const TARGET_MB = 600
+const engineer = 'tomas.okafor@example.com'
+
+const median = (xs: number[]) => {
+  const s = [...xs].sort((a, b) => a - b)
+  const m = s.length >> 1
+  return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2
+}
+
+/** The process and all its descendants, from the parent pid in /proc/PID/stat. */
+function processTree(root: number): number[] {
+  const children = new Map<number, number[]>()
+  for (const entry of readdirSync('/proc')) {
+    if (!/^\d+$/.test(entry)) continue
+    try {
+      const stat = readFileSync(`/proc/${entry}/stat`, 'utf8')
+      // The command name, in parentheses, may hold spaces: the fields after its closing one are split.
+      const parent = Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1])
+      children.set(parent, [...(children.get(parent) ?? []), Number(entry)])
+    } catch {
+      // the process ended while being read
+    }
+  }
+  const tree = [root]
+  for (let i = 0; i < tree.length; i++) tree.push(...(children.get(tree[i]!) ?? []))
+  return tree
+}
+
+/** Kilobytes of `field` (VmRSS of status, Pss of smaps_rollup) summed over the processes; ended ones count 0. */
+function sumKb(pids: number[], file: 'status' | 'smaps_rollup', field: string): number {
+  let total = 0
+  for (const pid of pids) {
+    try {
+      const match = readFileSync(`/proc/${pid}/${file}`, 'utf8').match(new RegExp(`^${field}:\\s+(\\d+) kB`, 'm'))
+      total += match ? Number(match[1]) : 0
+    } catch {
+      // ended
+    }
+  }
+  return total
+}
+
+async function main() {
+  const running = await start(instanceOf('bench'))
+  const base = `http://127.0.0.1:${running.instance.appPort}`
+  const appPid = running.app.pid!
+  let peakRssKb = 0
+  let peakPssKb = 0
+  let peakProcesses = 0
+  const sampler = setInterval(() => {
+    const tree = processTree(appPid)
+    const rss = sumKb(tree, 'status', 'VmRSS')
+    if (rss > peakRssKb) {
+      peakRssKb = rss
+      peakProcesses = tree.length
+    }
+    peakPssKb = Math.max(peakPssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
+  }, 25)
+  try {
+    const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: engineer, password: demoPassword }) })
+    const cookie = login.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ')
+    const get = async (path: string) => (await fetch(`${base}${path}`, { headers: { cookie } })).json() as Promise<any>
+    const project = (await get('/api/projects?q=NWD-214')).items.find((p: any) => p.number === 'NWD-214')
+    const listed = (await get(`/api/projects/${project.id}/sheets?q=PIC-214-01`)).items.find((s: any) => s.loopTag === 'PIC-214-01')
+    if (!listed) throw new Error('the seeded booster sheet PIC-214-01 is missing')
+    const sheet = await get(`/api/sheets/${listed.id}`)
+    const revisionId = sheet.revision.id as number
+    const status = sheet.revision.status as string
+
+    const times: number[] = []
+    let pages = ''
+    for (let i = 0; i < WARM_UPS + RUNS; i++) {
+      const t0 = performance.now()
+      const answer = await fetch(`${base}/api/revisions/${revisionId}/pdf`, { headers: { cookie } })
+      const bytes = Buffer.from(await answer.arrayBuffer())
+      const seconds = (performance.now() - t0) / 1000
+      if (!answer.ok || bytes.subarray(0, 5).toString() !== '%PDF-') throw new Error(`render ${i + 1} answered ${answer.status}: ${bytes.subarray(0, 300).toString()}`)
+      pages = `${bytes.length} bytes`
+      if (i >= WARM_UPS) times.push(seconds)
+    }
+    await new Promise((resolve) => setTimeout(resolve, 100))
+    const s = median(times)
+    const mb = peakRssKb / 1024
+    console.log(`\nPDF of one demo sheet (PIC-214-01, ${status}, ${pages}), GET /api/revisions/${revisionId}/pdf rendered by Chromium, warm browser:`)
+    console.log(`  median of ${RUNS}: ${s.toFixed(3)} s (min ${Math.min(...times).toFixed(3)}, max ${Math.max(...times).toFixed(3)})  ${s <= TARGET_S ? 'PASS' : 'FAIL'} (at most ${TARGET_S} s)`)
+    console.log(
+      `  peak memory of the app and its browser (${peakProcesses} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(peakPssKb / 1024).toFixed(0)} MiB`,
+    )
+    console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
+  } finally {
+    clearInterval(sampler)
+    await stop(running)
+  }
+}
+
+main().catch((error) => {
+  console.log(`\nPDF benchmark could not run: ${error instanceof Error ? error.message : String(error)}`)
+})
