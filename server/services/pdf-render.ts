@@ -3,7 +3,7 @@
 // MAX_PAGES renders hold a tab at once, the rest wait their turn. The page is opened on loopback with a render
 // token (server/utils/render-token.ts), not a person's session, and every request it makes outside this app's own
 // origin is aborted, so a render never reaches the internet and never waits on it.
-import { createHash } from 'node:crypto'
+import { sha256Hex } from '../utils/content-hash'
 import { mkdtemp, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
@@ -134,7 +134,6 @@ async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequ
   })
 }
 
-export const sha256Of = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest('hex')
 
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
 export async function renderSheetPdf(revisionId: number, options: SheetRenderOptions = {}): Promise<RenderedPdf> {
@@ -161,7 +160,7 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   const bytes = Buffer.from(await pdf.save())
   return {
     bytes,
-    sha256: sha256Of(bytes),
+    sha256: sha256Hex(bytes),
     pages: pdf.getPageCount(),
     fileName: sheetPdfFileName(detail.number, revision),
     blockedRequests: printed.blockedRequests,
