@@ -175,6 +175,8 @@ if (sympy) {
 const mib = (b: number) => (b / 1024 / 1024).toFixed(1)
 console.log(`memory, ${largest.name}: heap grew ${mib(heapAfterRun - heapBefore)} MiB during one evaluation (lower bound), ${mib(heapRetained)} MiB retained after collection; peak RSS of the bench process ${peakRssMiB.toFixed(0)} MiB`)
 const failed = verdicts.filter((v) => v.includes('FAIL'))
+// A 100,000-row step-test record parsed and fitted both ways (scripts/bench-step-fit.ts).
+spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-step-fit.ts', import.meta.url))], { stdio: 'inherit' })
 // The project sheet list with 10,000 sheets, in a scratch database of this checkout's PostgreSQL (scripts/bench-sheet-list.ts).
 spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-sheet-list.ts', import.meta.url))], { stdio: 'inherit' })
 // The sheet editor's keystroke-to-result figure, in a browser against the built app (scripts/bench-editor.ts).
