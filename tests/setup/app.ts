@@ -42,7 +42,7 @@ export function instanceOf(project: string): Instance {
       bucket: 'loopwright-test-server',
     }
   }
-  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-bench' }
+  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-test' }
 }
 
 export interface Running {
