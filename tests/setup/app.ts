@@ -1,14 +1,17 @@
-// Global set-up of the server and browser tests (tests/vitest.config.ts): PostgreSQL and the test mail sink up,
-// a fresh database loopwright_test migrated and seeded, the built app on 127.0.0.1:3199.
+// Global set-up of the server and browser tests (tests/vitest.config.ts): PostgreSQL, the test mail sink and the
+// test object store up, a fresh database loopwright_test migrated and seeded, an emptied bucket, the built app on
+// 127.0.0.1:3199.
 // Vitest calls this once per project and runs the projects side by side, so each project gets an instance of
 // its own, and one project's rows never show up in the other's pages:
-//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581
-//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582
+//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581, bucket loopwright-test
+//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582, bucket loopwright-test-server
+// (one object store for both, on 4569).
 // Teardown stops the app and drops its database.
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
 import { existsSync, openSync, readFileSync, writeFileSync, rmSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import postgres from 'postgres'
+import { CreateBucketCommand, DeleteObjectsCommand, ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3'
 import type { TestProject } from 'vitest/node'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -19,6 +22,8 @@ export interface Instance {
   database: string
   smtpPort: number
   mailHttpPort: number
+  /** The object store's bucket of this instance (scripts/object-store, on the tests' port). */
+  bucket: string
 }
 
 /** LOOPWRIGHT_PORT_OFFSET shifts every port, as in scripts/lib/common.sh. */
@@ -26,7 +31,7 @@ const offset = Number(process.env.LOOPWRIGHT_PORT_OFFSET ?? 0)
 
 export function instanceOf(project: string): Instance {
   // The editor's browser benchmark (scripts/bench-editor.ts): an app and database of its own, no mail sent.
-  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
+  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-bench' }
   if (project === 'server') {
     return {
       name: 'server',
@@ -34,9 +39,10 @@ export function instanceOf(project: string): Instance {
       database: 'loopwright_test_server',
       smtpPort: 2527 + offset,
       mailHttpPort: 2582 + offset,
+      bucket: 'loopwright-test-server',
     }
   }
-  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
+  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-test' }
 }
 
 export interface Running {
@@ -60,6 +66,7 @@ function testEnv(instance: Instance): Record<string, string> {
     ...env,
     NUXT_DATABASE_URL: databaseUrl.toString(),
     NUXT_SMTP_PORT: String(instance.smtpPort),
+    NUXT_OBJECT_STORE_BUCKET: instance.bucket,
     NUXT_PUBLIC_SITE_URL: `http://127.0.0.1:${instance.appPort}`,
     HOST: '127.0.0.1',
     PORT: String(instance.appPort),
@@ -77,6 +84,32 @@ async function recreateDatabase(databaseUrl: string, create: boolean) {
   } finally {
     await sql.end()
   }
+}
+
+/** The tests' object store (scripts/object-store): one port, a bucket per instance. */
+const objectStorePort = 4569 + offset
+
+/** The instance's bucket as the app sees it (NUXT_OBJECT_STORE_*), emptied: the tests list it to see what was kept. */
+export function objectStoreClient(env: Record<string, string>): { client: S3Client; bucket: string } {
+  const client = new S3Client({
+    endpoint: env.NUXT_OBJECT_STORE_ENDPOINT,
+    region: env.NUXT_OBJECT_STORE_REGION,
+    forcePathStyle: true,
+    credentials: { accessKeyId: env.NUXT_OBJECT_STORE_ACCESS_KEY_ID!, secretAccessKey: env.NUXT_OBJECT_STORE_SECRET_ACCESS_KEY! },
+  })
+  return { client, bucket: env.NUXT_OBJECT_STORE_BUCKET! }
+}
+
+async function emptyBucket(env: Record<string, string>) {
+  const { client, bucket } = objectStoreClient(env)
+  await client.send(new CreateBucketCommand({ Bucket: bucket })).catch(() => undefined)
+  for (;;) {
+    const listed = await client.send(new ListObjectsV2Command({ Bucket: bucket }))
+    const keys = (listed.Contents ?? []).map((object) => ({ Key: object.Key! }))
+    if (keys.length === 0) break
+    await client.send(new DeleteObjectsCommand({ Bucket: bucket, Delete: { Objects: keys } }))
+  }
+  client.destroy()
 }
 
 /** An app left behind by an interrupted run would hold the port. */
@@ -111,7 +144,9 @@ export async function start(instance: Instance): Promise<Running> {
   const logFile = `${root}.data/test-app-${instance.name}.log`
   run(`${root}scripts/db`, ['start'])
   run(`${root}scripts/mail-sink`, ['start', String(instance.smtpPort), String(instance.mailHttpPort)])
+  run(`${root}scripts/object-store`, ['start', String(objectStorePort)])
   const env = testEnv(instance)
+  await emptyBucket(env)
   await recreateDatabase(env.NUXT_DATABASE_URL!, true)
   run('node', ['--import', 'tsx', 'scripts/migrate.ts'], env)
   run('node', ['--import', 'tsx', 'scripts/seed.ts'], env)
@@ -145,5 +180,12 @@ export default async function setup(project: TestProject) {
   project.provide('baseUrl', `http://127.0.0.1:${running.instance.appPort}`)
   project.provide('mailApiUrl', `http://127.0.0.1:${running.instance.mailHttpPort}`)
   project.provide('databaseUrl', running.env.NUXT_DATABASE_URL!)
+  project.provide('objectStore', {
+    endpoint: running.env.NUXT_OBJECT_STORE_ENDPOINT!,
+    region: running.env.NUXT_OBJECT_STORE_REGION!,
+    bucket: running.instance.bucket,
+    accessKeyId: running.env.NUXT_OBJECT_STORE_ACCESS_KEY_ID!,
+    secretAccessKey: running.env.NUXT_OBJECT_STORE_SECRET_ACCESS_KEY!,
+  })
   return () => stop(running)
 }
