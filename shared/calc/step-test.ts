@@ -114,6 +114,13 @@ export function recogniseColumns(headers: readonly string[]): StepColumns | null
   return { time: time < 0 ? null : time + 1, output: output + 1, process: process + 1 }
 }
 
+/** The header row's cells (the first row that is no comment and holds a cell that is no number), or none. */
+export function recordHeaders(text: string): string[] {
+  const parsed = Papa.parse<string[]>(text, { preview: 20, delimiter: '' })
+  const first = parsed.data.find((row) => !isBlank(row) && !isComment(row))
+  return first && first.some((cell) => cellNumber(cell) === null) ? first.map((cell) => cell.trim()) : []
+}
+
 /** Reads the CSV text of a step test. Throws StepTestError naming the field (and the row) at fault. */
 export function readStepRecord(text: string, options: StepRecordOptions = {}): StepRecord {
   const parsed = Papa.parse<string[]>(text, { skipEmptyLines: false, delimiter: '' })

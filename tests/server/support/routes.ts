@@ -5,6 +5,7 @@
 import { createHash } from 'node:crypto'
 import type { Role } from '../../../shared/schemas/roles'
 import { demoPassword } from '../../../scripts/demo-people'
+import { uploadStepTest } from './step-tests'
 import { Client, database, demo, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
@@ -291,6 +292,10 @@ export class Kit {
       return { id: created.body.id as number, document: detail.body.revision.document }
     })
   }
+  /** A step-test CSV attached to the sample sheet by its engineer (tests/server/support/step-tests.ts). */
+  sampleStepTestAttachment(): Promise<number> {
+    return this.once('step-test attachment', async () => uploadStepTest(await this.engineer(), (await this.sampleSheet()).id))
+  }
   /** The sample sheet's version now (a valid save bumps it). */
   async sampleSheetVersion(): Promise<number> {
     const [row] = await database()`select version from sheet_revisions where sheet_id = ${(await this.sampleSheet()).id}`
@@ -558,6 +563,26 @@ export const routes: RouteRow[] = [
     route: '/api/firm',
     expect: onlyRoles(200, 'admin'),
     prepare: async (kit) => ({ body: await kit.firmSettings() }),
+  },
+  {
+    method: 'POST',
+    route: '/api/attachments/[id]/step-fit',
+    // A tool of the sheet's staff: admins and the project's engineers and checkers; never a client (issue 10).
+    expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
+    scope: 'project',
+    prepare: async (kit) => ({ params: { id: String(await kit.sampleStepTestAttachment()) }, body: { columns: { time: 1, output: 2, process: 3 }, stepTime: 10 } }),
+    // A record without a time column is a valid choice.
+    accepts: { 'columns.time': ['null'] },
+    badBodies: (valid) => [{ ...(valid as object), sampleTime: 0 }, { ...(valid as object), columns: { time: 1, output: 1, process: 3 } }, { ...(valid as object), extra: 1 }],
+  },
+  {
+    method: 'POST',
+    route: '/api/tuning',
+    expect: onlyRoles(200, 'engineer', 'checker', 'admin'),
+    prepare: async () => ({ body: { rule: 'lambda-pi', model: { gain: 1.4, timeConstant: 6, deadTime: 2 }, closedLoopTimeConstant: 6 } }),
+    // A reverse-acting plant has a negative gain.
+    accepts: { 'model.gain': ['-1'] },
+    badBodies: (valid) => [{ ...(valid as object), rule: 'zn-pi', model: { gain: 1, timeConstant: 5, deadTime: 0 } }, { ...(valid as object), closedLoopTimeConstant: undefined }],
   },
   {
     method: 'POST',

@@ -1,0 +1,40 @@
+// Step-test records for the server tests: an invented plant's sampled step response with seeded noise
+// (scripts/lib/synthetic-step-test.ts), uploaded as a CSV attachment through POST /api/sheets/[id]/attachments.
+import { inject } from 'vitest'
+import { type SyntheticStepTest, syntheticStepCsv } from '../../../scripts/lib/synthetic-step-test'
+import type { Client } from './client'
+
+/** K = 1.8 (L/h)/%, τ = 12 s, θ = 3.5 s, sampled every 0.2 s, stepped 40 → 50 % at 10 s, noise σ = 0.15 L/h. */
+export const sampleStepTest: SyntheticStepTest = {
+  gain: 1.8,
+  timeConstant: 12,
+  deadTime: 3.5,
+  sampleTime: 0.2,
+  samples: 600,
+  stepTime: 10,
+  outputBefore: 40,
+  outputAfter: 50,
+  baseline: 20,
+  noise: 0.15,
+  seed: 11,
+}
+
+/** Uploads `text` as the file `name` to the sheet's current revision; answers the status and body. */
+export async function uploadText(client: Client, sheetId: number, name: string, text: string): Promise<{ status: number; body: any }> {
+  const form = new FormData()
+  form.append('file', new Blob([text], { type: 'text/csv' }), name)
+  const answer = await fetch(`${inject('baseUrl')}/api/sheets/${sheetId}/attachments`, {
+    method: 'POST',
+    headers: client.cookie ? { cookie: client.cookie } : {},
+    body: form,
+  })
+  const body = await answer.text()
+  return { status: answer.status, body: body ? JSON.parse(body) : null }
+}
+
+/** The sample step test as an attachment of the sheet; answers its id. */
+export async function uploadStepTest(client: Client, sheetId: number, spec: SyntheticStepTest = sampleStepTest, name = 'step-test.csv'): Promise<number> {
+  const made = await uploadText(client, sheetId, name, syntheticStepCsv(spec, 'time (s),controller output (%),flow (L/h)', ['Invented step-test record for the tests']))
+  if (made.status !== 201) throw new Error(`uploading a step test answered ${made.status}: ${JSON.stringify(made.body)}`)
+  return made.body.id as number
+}
