@@ -35,7 +35,8 @@ function lineCount(bytes: Buffer): number {
 export async function fitAttachment(db: Database, attachmentId: number, body: StepFitBody, viewer: Viewer, store: ObjectStore = useObjectStore()): Promise<StepFitAnswer | Refused> {
   const file = await downloadAttachment(db, attachmentId, viewer, store)
   if (isRefused(file)) return file
-  if (file.type !== 'text/csv') {
+  // Plain text too: a record with comment lines has rows of uneven width, which the upload's content check calls text.
+  if (file.type !== 'text/csv' && file.type !== 'text/plain') {
     const message = `${file.name} is not CSV data: a step test is a CSV of time, controller output and process value`
     throw createError({ statusCode: 415, statusMessage: 'Not a step-test record', message, data: { field: 'attachment', row: null, message, headers: [] } })
   }

@@ -2,6 +2,8 @@
 // an uploaded step test (an invented plant with seeded noise, support/step-tests.ts) is fitted both ways, a bad row
 // is refused naming it, another project's record is refused and audited, and a rule answers its settings.
 import { beforeAll, describe, expect, it } from 'vitest'
+import { syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
+import { database } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 import { sampleStepTest, uploadStepTest, uploadText } from './support/step-tests'
 
@@ -66,13 +68,22 @@ describe('POST /api/attachments/[id]/step-fit', () => {
     expect(given.body.step.time).toBe(20)
   })
 
-  it('refuses a client and a non-member (audited), and a file that is no CSV', async () => {
+  it('refuses a client and a non-member (audited), a file that is no text, and reads a plain-text record as one', async () => {
     expect((await cast.client.post(`/api/attachments/${attachmentId}/step-fit`, {})).status).toBe(403)
-    expect((await cast.outsider.post(`/api/attachments/${attachmentId}/step-fit`, {})).status).toBe(403)
-    const text = await uploadText(cast.engineer, sheetId, 'notes.txt', 'Dosing line walked down on site; nothing to fit here.\n')
+    const outsider = await cast.outsider.post(`/api/attachments/${attachmentId}/step-fit`, {})
+    expect(outsider.status).toBe(403)
+    const [refusal] = await database()`select action from audit_events where path = ${`/api/attachments/${attachmentId}/step-fit`} and status = 403 order by id desc limit 1`
+    expect(refusal?.action).toBe('access.refused')
+    const pdf = await uploadText(cast.engineer, sheetId, 'datasheet.pdf', new TextEncoder().encode('%PDF-1.4\n1 0 obj << >> endobj\ntrailer << >>\n%%EOF\n'))
+    expect(pdf.status).toBe(201)
+    expect((await cast.engineer.post(`/api/attachments/${pdf.body.id}/step-fit`, {})).status).toBe(415)
+    // Plain text by its content (a comment line makes the rows uneven): read as a record all the same.
+    const text = await uploadText(cast.engineer, sheetId, 'notes.txt', `# invented record\n${syntheticStepCsv(sampleStepTest)}`)
     expect(text.status).toBe(201)
-    const answer = await cast.engineer.post(`/api/attachments/${text.body.id}/step-fit`, {})
-    expect(answer.status).toBe(415)
+    expect(text.body.type).toBe('text/plain')
+    const fitted = await cast.engineer.post(`/api/attachments/${text.body.id}/step-fit`, {})
+    expect(fitted.status).toBe(200)
+    expect(fitted.body.record.samples).toBe(600)
     expect((await cast.engineer.post('/api/attachments/2147483647/step-fit', {})).status).toBe(404)
   })
 })
