@@ -9,7 +9,14 @@ import { Hash } from '@adonisjs/hash'
 import { Scrypt } from '@adonisjs/hash/drivers/scrypt'
 import * as schema from '../server/db/schema'
 import { firmSettings, organisations, packages, people, projectMembers, projects, sheets } from '../server/db/schema'
-import { createSheet, isRefused, type Computation } from '../server/services/sheets'
+import { createSheet, isRefused, saveSheet, viewSheet, type Computation } from '../server/services/sheets'
+import { listSheetAttachments, uploadAttachment } from '../server/services/attachments'
+import { createObjectStore } from '../server/services/object-store'
+import { fitStepTest } from '../shared/calc/step-fit'
+import { readStepRecord } from '../shared/calc/step-test'
+import { tune } from '../shared/calc/tuning'
+import { shortHash } from '../shared/schemas/attachments'
+import { syntheticStepCsv } from './lib/synthetic-step-test'
 import { sheetTemplateSchema, type SheetTemplate } from '../shared/schemas/sheets'
 import { CalcTimeoutError, LoopInputError, evaluateLoopText } from '../shared/calc/index'
 import { demoPassword, demoPeople } from './demo-people'
@@ -56,6 +63,63 @@ const demoSheets = [
     scope: 'Cascade at the Hollins clearwell: the level controller (outer loop) sets the outlet flow controller’s set point (inner loop).',
   },
 ]
+
+/**
+ * The dosing-flow sheet's step test (issue 10, item 5): an INVENTED record, the sampled step response of a known
+ * first-order-plus-dead-time plant (K = 1.45 %/%, τ = 6.4 s, θ = 2.2 s) with seeded noise, attached to FIC-214-03,
+ * fitted by least squares, its model put into the plant block P with the upload cited, and the PI controller tuned by
+ * SIMC. Done once: a sheet that already holds the record is left as it is. Answers whether it was done now.
+ */
+const DOSING_RECORD = 'FIC-214-03-step-test-INVENTED.csv'
+async function seedDosingStepTest(projectId: number, viewer: { id: number; roles: Array<'engineer'> }, context: { actorId: number; ip: null; method: null; path: string }): Promise<boolean> {
+  const [sheet] = await db.select({ id: sheets.id }).from(sheets).where(and(eq(sheets.projectId, projectId), eq(sheets.loopTag, 'FIC-214-03')))
+  if (!sheet) return false
+  const store = createObjectStore({
+    endpoint: process.env.NUXT_OBJECT_STORE_ENDPOINT ?? '',
+    region: process.env.NUXT_OBJECT_STORE_REGION ?? 'us-east-1',
+    bucket: process.env.NUXT_OBJECT_STORE_BUCKET ?? '',
+    accessKeyId: process.env.NUXT_OBJECT_STORE_ACCESS_KEY_ID ?? '',
+    secretAccessKey: process.env.NUXT_OBJECT_STORE_SECRET_ACCESS_KEY ?? '',
+    forcePathStyle: process.env.NUXT_OBJECT_STORE_FORCE_PATH_STYLE === 'true',
+  })
+  const listed = await listSheetAttachments(db, sheet.id, viewer)
+  if (isRefused(listed) || !listed.canUpload || listed.attachments.some((a) => a.name === DOSING_RECORD)) return false
+  const csv = syntheticStepCsv(
+    { gain: 1.45, timeConstant: 6.4, deadTime: 2.2, sampleTime: 0.1, samples: 900, stepTime: 10, outputBefore: 35, outputAfter: 45, baseline: 41, noise: 0.12, seed: 21403 },
+    'time (s),pump speed demand (%),dosing flow (%)',
+  )
+  const uploaded = await uploadAttachment(db, sheet.id, { name: DOSING_RECORD, bytes: Buffer.from(csv) }, viewer, context, store)
+  if (isRefused(uploaded)) throw new Error(`the demo step test was refused: ${uploaded.refused}`)
+  const fit = fitStepTest(readStepRecord(csv)).leastSquares
+  const tuning = tune({ rule: 'simc-pi', model: fit })
+  const detail = await viewSheet(db, sheet.id, viewer)
+  if (isRefused(detail)) throw new Error(`the demo sheet FIC-214-03 was refused: ${detail.refused}`)
+  const document = structuredClone(detail.revision.document)
+  const figure = (x: number) => Number(x.toPrecision(4))
+  const fitted = `Fitted by least squares on the step response from the step test ${DOSING_RECORD} (SHA-256 ${shortHash(uploaded.sha256)}), attached to this sheet`
+  const tuned = `SIMC PI tuning (Skogestad, J. Process Control 13 (2003) 291–309) for plant P: K = ${figure(fit.gain)}, τ = ${figure(fit.timeConstant)} s, θ = ${figure(fit.deadTime)} s, τc = θ`
+  const set = (symbol: string, value: number, source: string) => {
+    const parameter = document.loop.parameters[symbol]!
+    const ratio = value / parameter.value
+    document.loop.parameters[symbol] = {
+      ...parameter,
+      value,
+      ...(parameter.min === undefined ? {} : { min: figure(parameter.min * ratio) }),
+      ...(parameter.max === undefined ? {} : { max: figure(parameter.max * ratio) }),
+    }
+    document.parameters.find((p) => p.symbol === symbol)!.source = source
+  }
+  set('Kp', figure(fit.gain), fitted)
+  set('T', figure(fit.timeConstant), fitted)
+  set('L', figure(fit.deadTime), fitted)
+  set('Kc', figure(tuning.settings.gain), tuned)
+  set('Ti', figure(tuning.settings.integralTime), tuned)
+  const record = document.references.find((r) => r.title.startsWith('Step test record'))
+  if (record) record.note = `${DOSING_RECORD}: an invented record for the demonstration (generated from a known model with seeded noise), not a measurement. Fitted first-order-plus-dead-time model.`
+  const saved = await saveSheet(db, sheet.id, { version: detail.revision.version, document }, viewer, context, computeHere)
+  if (isRefused(saved)) throw new Error(`saving the demo sheet FIC-214-03 was refused: ${saved.refused}`)
+  return true
+}
 
 const url = process.env.NUXT_DATABASE_URL
 if (!url) throw new Error('NUXT_DATABASE_URL is not set (see scripts/app-env)')
@@ -151,7 +215,8 @@ try {
     if (isRefused(created)) throw new Error(`the demo sheet ${demo.loopTag} was refused: ${created.refused}`)
     made++
   }
-  console.log(`demo data in place: ${seeded.length} people, project ${project!.number}, ${made} new demo sheets`)
+  const stepTest = await seedDosingStepTest(project!.id, viewer, context)
+  console.log(`demo data in place: ${seeded.length} people, project ${project!.number}, ${made} new demo sheets${stepTest ? ', the dosing step test attached, fitted and tuned' : ''}`)
 } finally {
   await sql.end()
 }
