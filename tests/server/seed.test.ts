@@ -48,7 +48,9 @@ describe('seed', () => {
     expect(rows.sheets.map((sheet) => sheet.loop_tag)).toEqual(['PIC-214-01', 'LIC-214-02', 'FIC-214-03', 'LIC-214-04'])
     expect(rows.sheets.map((sheet) => sheet.number)).toEqual(['NWD-214-01', 'NWD-214-02', 'NWD-214-03', 'NWD-214-04'])
     for (const sheet of rows.sheets) {
-      expect(sheet).toMatchObject({ package_id: rows.packages[0]!.id, revision_index: 0, status: 'draft', version: 1, prepared_by: engineer.id, created_by: engineer.id })
+      // The dosing-flow sheet is saved once more by the seed: its step test fitted and its controller tuned.
+      const version = sheet.loop_tag === 'FIC-214-03' ? 2 : 1
+      expect(sheet).toMatchObject({ package_id: rows.packages[0]!.id, revision_index: 0, status: 'draft', version, prepared_by: engineer.id, created_by: engineer.id })
       // Each computed by the engine at seeding; all four demo loops are designed stable.
       expect(sheet.stability).toBe('stable')
     }
@@ -60,6 +62,24 @@ describe('seed', () => {
     const expected = JSON.parse(readFileSync(new URL('../../../shared/examples/expected/booster-pressure.json', import.meta.url), 'utf8'))
     // Reference: shared/examples/expected (sympy exact reduction), to the contract's 1e-12 relative.
     expected.closed_loop.den.forEach((value: number, i: number) => expect(booster!.den[i]).toBeCloseTo(value, 10))
+  })
+
+  it('attaches an invented step test to the dosing-flow sheet, fitted into its plant and tuned by SIMC', async () => {
+    const [row] = await database()`select a.name, a.sha256, a.type, r.document as document from attachments a
+      join sheet_revisions r on r.id = a.revision_id join sheets s on s.id = r.sheet_id where s.loop_tag = 'FIC-214-03'`
+    expect(row).toMatchObject({ name: 'FIC-214-03-step-test-INVENTED.csv', type: 'text/csv' })
+    const { loop, parameters } = row!.document
+    // The record was made from K = 1.45 %/%, τ = 6.4 s, θ = 2.2 s (scripts/seed.ts): least squares within 2 %, θ within a sample.
+    expect(Math.abs(loop.parameters.Kp.value / 1.45 - 1)).toBeLessThan(0.02)
+    expect(Math.abs(loop.parameters.T.value / 6.4 - 1)).toBeLessThan(0.02)
+    expect(Math.abs(loop.parameters.L.value - 2.2)).toBeLessThan(0.1)
+    const source = (symbol: string) => parameters.find((p: { symbol: string }) => p.symbol === symbol).source as string
+    expect(source('Kp')).toContain(`FIC-214-03-step-test-INVENTED.csv (SHA-256 ${row!.sha256.slice(0, 12)})`)
+    expect(source('Kc')).toContain('SIMC PI')
+    // SIMC PI with τc = θ (Skogestad 2003): Kc = τ/(2Kθ), to the 4 figures the seed writes.
+    const simc = loop.parameters.T.value / (2 * loop.parameters.Kp.value * loop.parameters.L.value)
+    expect(Math.abs(loop.parameters.Kc.value / simc - 1)).toBeLessThan(0.002)
+    expect(loop.parameters.Ti.value).toBe(Math.min(loop.parameters.T.value, 8 * loop.parameters.L.value))
   })
 
   it('gives the same rows when run a second time', async () => {
