@@ -167,7 +167,7 @@ export function tune(request: TuningRequest): TuningResult {
       name: tuningRuleNames[rule],
       controller: 'PID',
       settings: seriesToIdeal(seriesGain, seriesIntegral, seriesDerivative),
-      formulaTex: String.raw`K_c' = \frac{1}{K}\,\frac{\tau + \theta/3}{\tau_c + \theta},\quad \tau_I = \min\{\tau + \tfrac{\theta}{3},\; 4(\tau_c + \theta)\},\quad \tau_D = \frac{\theta}{3};\qquad K_c = K_c'\Big(1 + \frac{\tau_D}{\tau_I}\Big),\quad T_i = \tau_I + \tau_D,\quad T_d = \frac{\tau_I \tau_D}{\tau_I + \tau_D}`,
+      formulaTex: String.raw`\begin{gathered} K_c' = \frac{1}{K}\,\frac{\tau + \theta/3}{\tau_c + \theta},\quad \tau_I = \min\{\tau + \tfrac{\theta}{3},\; 4(\tau_c + \theta)\},\quad \tau_D = \frac{\theta}{3} \\ K_c = K_c'\Big(1 + \frac{\tau_D}{\tau_I}\Big),\quad T_i = \tau_I + \tau_D,\quad T_d = \frac{\tau_I \tau_D}{\tau_I + \tau_D} \end{gathered}`,
       source: `${ISIMC_SOURCE}; after ${SIMC_SOURCE}`,
       closedLoopTimeConstant: tauC,
       ultimate: null,

@@ -1,12 +1,13 @@
 // The step test in the browser (issue 10): a CSV of an invented plant (seeded noise, scripts/lib/synthetic-step-test.ts)
 // is uploaded to a dosing-flow sheet, fitted, inserted into the plant block with the upload cited, tuned by SIMC, and
 // the sheet's results change. The server is the witness: the stored document and result after the autosave.
+import { mkdir } from 'node:fs/promises'
 import type { Page } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
 import { api, apiSignIn, baseUrl } from './api'
-import { launchBrowser, screenshot, signIn, type TestBrowser } from './browser'
+import { launchBrowser, screenshotDir, signIn, type TestBrowser } from './browser'
 
 const engineer = 'tomas.okafor@example.com'
 // K = 2.1 %/%, τ = 9 s, θ = 3 s: far enough from the template's plant (1.4, 6 s, 2 s) that the results must move.
@@ -18,6 +19,7 @@ let cookie: string
 let sheetId: number
 beforeAll(async () => {
   chromium = await launchBrowser()
+  await mkdir(screenshotDir, { recursive: true })
   cookie = await apiSignIn(engineer, demoPassword)
   const projects = await api<any>(cookie, '/api/projects?q=NWD-214')
   const projectId = projects.body.items.find((p: any) => p.number === 'NWD-214').id
@@ -58,6 +60,7 @@ describe('a step test fitted, inserted and tuned in the browser', () => {
     await page.click('[data-testid=fit-step-test]')
     await page.waitForSelector('[data-testid=step-fit-table]')
     await page.waitForSelector('[data-testid=step-test-plot] [data-curve=least-squares]')
+    await (await page.$('[data-testid=step-test-panel]'))!.screenshot({ path: `${screenshotDir}step-test-fit.png` })
     const shownGain = await page.$eval('[data-fit=leastSquares] td:nth-child(2)', (el) => Number(el.textContent!.replace('\u2212', '-')))
     // Least squares recovers K within 1 % (the tolerance of tests/calc/step-fit.test.ts), shown to 4 figures.
     expect(Math.abs(shownGain / plant.gain - 1)).toBeLessThan(0.01)
@@ -77,7 +80,7 @@ describe('a step test fitted, inserted and tuned in the browser', () => {
     await page.click('[data-rule=simc-pi] [data-testid=preview-tuning]')
     await page.waitForFunction(() => /\d/.test(document.querySelector('[data-testid=proposed-phaseMargin]')?.textContent ?? ''), { timeout: 30_000 })
     const proposedPhaseMargin = await page.$eval('[data-testid=proposed-phaseMargin]', (el) => el.textContent!.trim())
-    await screenshot(page, 'step-test-tuning')
+    await (await page.$('[data-testid=tuning-panel]'))!.screenshot({ path: `${screenshotDir}step-test-tuning.png` })
     await page.click('[data-rule=simc-pi] [data-testid=apply-tuning]')
     await waitForSaved(page, inserted.revision.version + 1)
 
