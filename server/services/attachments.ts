@@ -16,6 +16,7 @@ import {
   attachmentNameProblem,
   attachmentTypeNames,
   extensionTypes,
+  formatFileSize,
   MAX_ATTACHMENT_BYTES,
   type AttachmentType,
   type AttachmentView,
@@ -94,7 +95,7 @@ export async function checkFile(file: IncomingFile): Promise<AttachmentType> {
   if (nameProblem) fileRefused(400, nameProblem)
   if (file.bytes.length === 0) fileRefused(400, `${file.name} is empty: choose a file with something in it`)
   if (file.bytes.length > MAX_ATTACHMENT_BYTES) {
-    fileRefused(413, `${file.name} is ${(file.bytes.length / 1024 / 1024).toFixed(1)} MiB: a file may be at most ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MiB`)
+    fileRefused(413, `${file.name} is ${formatFileSize(file.bytes.length)} (${file.bytes.length.toLocaleString('en')} bytes): a file may be at most ${formatFileSize(MAX_ATTACHMENT_BYTES)} (${MAX_ATTACHMENT_BYTES.toLocaleString('en')} bytes)`)
   }
   const type = await typeOfContent(file.bytes)
   if (!type) fileRefused(415, `${file.name} is not a PDF, PNG, JPEG, CSV or plain-text file by its content`)

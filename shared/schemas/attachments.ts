@@ -76,3 +76,10 @@ export interface SheetAttachments {
 
 /** The first 12 hex digits: what a printed page and a person's eye compare (48 bits), beside a file or a PDF. */
 export const shortHash = (hash: string) => hash.slice(0, 12)
+
+/** A file's size for a person: bytes, KiB or MiB (binary units, as the 25 MiB limit is). */
+export function formatFileSize(bytes: number): string {
+  if (bytes < 1024) return `${bytes} byte${bytes === 1 ? '' : 's'}`
+  if (bytes < 1024 * 1024) return `${Number((bytes / 1024).toFixed(1))} KiB`
+  return `${Number((bytes / 1024 / 1024).toFixed(1))} MiB`
+}

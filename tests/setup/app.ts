@@ -3,9 +3,8 @@
 // 127.0.0.1:3199.
 // Vitest calls this once per project and runs the projects side by side, so each project gets an instance of
 // its own, and one project's rows never show up in the other's pages:
-//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581, bucket loopwright-test
-//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582, bucket loopwright-test-server
-// (one object store for both, on 4569).
+//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581, object store 4569
+//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582, object store 4570
 // Teardown stops the app and drops its database.
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
 import { existsSync, openSync, readFileSync, writeFileSync, rmSync } from 'node:fs'
@@ -22,7 +21,8 @@ export interface Instance {
   database: string
   smtpPort: number
   mailHttpPort: number
-  /** The object store's bucket of this instance (scripts/object-store, on the tests' port). */
+  /** The object store of this instance (scripts/object-store) and its bucket. */
+  objectStorePort: number
   bucket: string
 }
 
@@ -31,7 +31,7 @@ const offset = Number(process.env.LOOPWRIGHT_PORT_OFFSET ?? 0)
 
 export function instanceOf(project: string): Instance {
   // The editor's browser benchmark (scripts/bench-editor.ts): an app and database of its own, no mail sent.
-  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-bench' }
+  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, objectStorePort: 4569 + offset, bucket: 'loopwright-bench' }
   if (project === 'server') {
     return {
       name: 'server',
@@ -39,10 +39,12 @@ export function instanceOf(project: string): Instance {
       database: 'loopwright_test_server',
       smtpPort: 2527 + offset,
       mailHttpPort: 2582 + offset,
+      // A store of its own: tests/server/attachments.test.ts stops it to see a failed store leave nothing behind.
+      objectStorePort: 4570 + offset,
       bucket: 'loopwright-test-server',
     }
   }
-  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, bucket: 'loopwright-test' }
+  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, objectStorePort: 4569 + offset, bucket: 'loopwright-test' }
 }
 
 export interface Running {
@@ -66,6 +68,7 @@ function testEnv(instance: Instance): Record<string, string> {
     ...env,
     NUXT_DATABASE_URL: databaseUrl.toString(),
     NUXT_SMTP_PORT: String(instance.smtpPort),
+    NUXT_OBJECT_STORE_ENDPOINT: `http://127.0.0.1:${instance.objectStorePort}`,
     NUXT_OBJECT_STORE_BUCKET: instance.bucket,
     NUXT_PUBLIC_SITE_URL: `http://127.0.0.1:${instance.appPort}`,
     HOST: '127.0.0.1',
@@ -86,11 +89,8 @@ async function recreateDatabase(databaseUrl: string, create: boolean) {
   }
 }
 
-/** The tests' object store (scripts/object-store): one port, a bucket per instance. */
-const objectStorePort = 4569 + offset
-
-/** The instance's bucket as the app sees it (NUXT_OBJECT_STORE_*), emptied: the tests list it to see what was kept. */
-export function objectStoreClient(env: Record<string, string>): { client: S3Client; bucket: string } {
+/** The instance's bucket as the app sees it (NUXT_OBJECT_STORE_*). */
+function objectStoreClient(env: Record<string, string>): { client: S3Client; bucket: string } {
   const client = new S3Client({
     endpoint: env.NUXT_OBJECT_STORE_ENDPOINT,
     region: env.NUXT_OBJECT_STORE_REGION,
@@ -100,6 +100,7 @@ export function objectStoreClient(env: Record<string, string>): { client: S3Clie
   return { client, bucket: env.NUXT_OBJECT_STORE_BUCKET! }
 }
 
+/** Made when missing, and emptied: the tests list it to see what was kept. */
 async function emptyBucket(env: Record<string, string>) {
   const { client, bucket } = objectStoreClient(env)
   await client.send(new CreateBucketCommand({ Bucket: bucket })).catch(() => undefined)
@@ -144,7 +145,7 @@ export async function start(instance: Instance): Promise<Running> {
   const logFile = `${root}.data/test-app-${instance.name}.log`
   run(`${root}scripts/db`, ['start'])
   run(`${root}scripts/mail-sink`, ['start', String(instance.smtpPort), String(instance.mailHttpPort)])
-  run(`${root}scripts/object-store`, ['start', String(objectStorePort)])
+  run(`${root}scripts/object-store`, ['start', String(instance.objectStorePort), instance.bucket])
   const env = testEnv(instance)
   await emptyBucket(env)
   await recreateDatabase(env.NUXT_DATABASE_URL!, true)
@@ -181,6 +182,7 @@ export default async function setup(project: TestProject) {
   project.provide('mailApiUrl', `http://127.0.0.1:${running.instance.mailHttpPort}`)
   project.provide('databaseUrl', running.env.NUXT_DATABASE_URL!)
   project.provide('objectStore', {
+    port: running.instance.objectStorePort,
     endpoint: running.env.NUXT_OBJECT_STORE_ENDPOINT!,
     region: running.env.NUXT_OBJECT_STORE_REGION!,
     bucket: running.instance.bucket,

@@ -8,7 +8,7 @@ declare module 'vitest' {
     /** postgres:// URL of the test database loopwright_test */
     databaseUrl: string
     /** The instance's bucket in the test object store (scripts/object-store), to list what the app kept. */
-    objectStore: { endpoint: string; region: string; bucket: string; accessKeyId: string; secretAccessKey: string }
+    objectStore: { port: number; endpoint: string; region: string; bucket: string; accessKeyId: string; secretAccessKey: string }
   }
 }
 

@@ -1,6 +1,5 @@
 // Step-test records for the server tests: an invented plant's sampled step response with seeded noise
 // (scripts/lib/synthetic-step-test.ts), uploaded as a CSV attachment through POST /api/sheets/[id]/attachments.
-import { inject } from 'vitest'
 import { type SyntheticStepTest, syntheticStepCsv } from '../../../scripts/lib/synthetic-step-test'
 import type { Client } from './client'
 
@@ -19,17 +18,10 @@ export const sampleStepTest: SyntheticStepTest = {
   seed: 11,
 }
 
-/** Uploads `text` as the file `name` to the sheet's current revision; answers the status and body. */
+/** Uploads `text` as the file `name` to the sheet's current revision (Client.upload); answers the status and body. */
 export async function uploadText(client: Client, sheetId: number, name: string, text: string | Uint8Array): Promise<{ status: number; body: any }> {
-  const form = new FormData()
-  form.append('file', new Blob([text]), name)
-  const answer = await fetch(`${inject('baseUrl')}/api/sheets/${sheetId}/attachments`, {
-    method: 'POST',
-    headers: client.cookie ? { cookie: client.cookie } : {},
-    body: form,
-  })
-  const body = await answer.text()
-  return { status: answer.status, body: body ? JSON.parse(body) : null }
+  const bytes = typeof text === 'string' ? new TextEncoder().encode(text) : text
+  return client.upload(`/api/sheets/${sheetId}/attachments`, name, bytes)
 }
 
 /** The sample step test as an attachment of the sheet; answers its id. */
