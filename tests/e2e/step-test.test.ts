@@ -1,8 +1,11 @@
 // The step test in the browser (issue 10): a CSV of an invented plant (seeded noise, scripts/lib/synthetic-step-test.ts)
 // is uploaded to a dosing-flow sheet, fitted, inserted into the plant block with the upload cited, tuned by SIMC, and
 // the sheet's results change. The server is the witness: the stored document and result after the autosave.
-import { mkdir } from 'node:fs/promises'
-import type { Page } from 'puppeteer-core'
+import { createHash } from 'node:crypto'
+import { mkdir, mkdtemp, writeFile } from 'node:fs/promises'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
+import type { ElementHandle, Page } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
@@ -46,16 +49,15 @@ describe('a step test fitted, inserted and tuned in the browser', () => {
     await page.waitForSelector('[data-testid=result][data-stale=false]')
     const before = await stored()
 
-    // The upload from the page itself (the attachment route's multipart form), then the panel reads the list again.
-    const uploaded = await page.evaluate(async (id, text) => {
-      const form = new FormData()
-      form.append('file', new Blob([text], { type: 'text/csv' }), 'dosing-step-test.csv')
-      const answer = await fetch(`/api/sheets/${id}/attachments`, { method: 'POST', body: form })
-      return { status: answer.status, body: await answer.json() }
-    }, sheetId, csv)
-    expect(uploaded.status).toBe(201)
-    await page.click('[data-testid=reread-attachments]')
-    await page.waitForFunction(() => document.querySelector('[data-testid=step-record]')?.textContent?.includes('dosing-step-test.csv'))
+    // Uploaded through the sheet's attachments (the file picker); the step-test panel shares their list.
+    const file = join(await mkdtemp(join(tmpdir(), 'loopwright-step-')), 'dosing-step-test.csv')
+    await writeFile(file, csv)
+    const picker = (await page.waitForSelector('[data-testid=attachment-input]')) as ElementHandle<HTMLInputElement>
+    await picker.uploadFile(file)
+    await page.waitForFunction(() => document.querySelector('[data-testid=step-record]')?.textContent?.includes('dosing-step-test.csv'), { timeout: 30_000 })
+    const listed = await api<any>(cookie, `/api/sheets/${sheetId}/attachments`)
+    const uploaded = listed.body.attachments.find((a: any) => a.name === 'dosing-step-test.csv')
+    expect(uploaded.sha256).toBe(createHash('sha256').update(csv).digest('hex'))
 
     await page.click('[data-testid=fit-step-test]')
     await page.waitForSelector('[data-testid=step-fit-table]')
@@ -73,7 +75,7 @@ describe('a step test fitted, inserted and tuned in the browser', () => {
     expect(Math.abs(valueOf(doc, 'Kp') / plant.gain - 1)).toBeLessThan(0.01)
     expect(Math.abs(valueOf(doc, 'T') / plant.timeConstant - 1)).toBeLessThan(0.02)
     expect(Math.abs(valueOf(doc, 'L') - plant.deadTime)).toBeLessThan(0.2)
-    expect(sourceOf(doc, 'Kp')).toContain(`dosing-step-test.csv (SHA-256 ${uploaded.body.sha256.slice(0, 12)})`)
+    expect(sourceOf(doc, 'Kp')).toContain(`dosing-step-test.csv (SHA-256 ${uploaded.sha256.slice(0, 12)})`)
 
     await page.click('[data-testid=suggest-tuning]')
     await page.waitForSelector('[data-rule=simc-pi] [data-testid=apply-tuning]')
