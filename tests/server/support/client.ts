@@ -138,8 +138,12 @@ interface MailMessage {
   text: string
 }
 
+/** Every mail goes through the outbox, whose worker may have other tests' mail in hand: a minute before giving up. */
+const deliveryPolls = 600
+
+/** The messages the sink holds for `address`, once the first has arrived (none after a minute of waiting). */
 export async function mailTo(address: string): Promise<MailMessage[]> {
-  for (let attempt = 0; attempt < 50; attempt++) {
+  for (let attempt = 0; attempt < deliveryPolls; attempt++) {
     const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
     const messages = (await answer.json()) as MailMessage[]
     if (messages.length > 0) return messages
@@ -154,11 +158,20 @@ export async function mailWithSubject(address: string, subject: string, settleMs
     const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
     return ((await answer.json()) as MailMessage[]).filter((message) => message.subject === subject)
   }
-  for (let attempt = 0; attempt < 50 && (await read()).length === 0; attempt++) {
+  for (let attempt = 0; attempt < deliveryPolls && (await read()).length === 0; attempt++) {
     await new Promise((resolve) => setTimeout(resolve, 100))
   }
   await new Promise((resolve) => setTimeout(resolve, settleMs))
   return read()
+}
+
+/**
+ * The outbox rows to `address` (of `kind`, when given). Mail is written there in the transaction of the change it
+ * tells of, so no row means no mail, now or later: a test of "no mail" reads this instead of waiting on the sink.
+ */
+export async function outboxRowsTo(address: string, kind?: string) {
+  return database()<{ kind: string; subject: string; sent: boolean }[]>`select kind, subject, sent_at is not null as sent from outbox
+    where recipient = ${address} and (${kind ?? null}::text is null or kind = ${kind ?? null}) order by id`
 }
 
 /** Invites a person as the demo admin, accepts the invitation, and returns their id and password. */
