@@ -1,5 +1,6 @@
-// The checker's home page lists revisions waiting for their check, the longest waiting since submission first, and
-// never one they edited (issue 8, item 10). Statuses, submission times and editors are set in the database.
+// The home pages' queues (issue 8, item 10): the checker's lists revisions waiting for their check, the longest waiting
+// since submission first, and never one they edited; the engineer's shows sheets returned to them first. Statuses,
+// times and editors are set in the database.
 import postgres from 'postgres'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
@@ -41,6 +42,35 @@ describe("the checker's home page", () => {
     expect(ours.map((text) => titles.find((title) => text.includes(title)))).toEqual([titles[1], titles[0]])
     expect(ours[0]).toContain('prepared by Tomás Okafor')
     await screenshot(page, 'home-check-queue')
+    await page.close()
+  })
+})
+
+describe("the engineer's home page", () => {
+  it('shows sheets returned to them before their drafts, however long ago they were returned', async () => {
+    const cookie = await apiSignIn('tomas.okafor@example.com', demoPassword)
+    const [project] = await sql`select id from projects where number = 'NWD-214'`
+    const make = async (title: string) => {
+      const created = await api<{ id: number }>(cookie, `/api/projects/${project!.id}/sheets`, { method: 'POST', body: { title, loopTag: 'LIC-214-58' } })
+      expect(created.status).toBe(201)
+      return created.body.id
+    }
+    const returned = await make('Home: returned long ago')
+    await sql`update sheet_revisions set status = 'returned', edited_at = '2002-01-01T08:00:00Z' where sheet_id = ${returned}`
+    const fresh = await make('Home: fresh draft')
+    const page = await chromium.newPage()
+    await signIn(page, baseUrl(), 'tomas.okafor@example.com', demoPassword)
+    await page.waitForSelector('[data-testid=my-sheets] li')
+    const rows = await page.$$eval('[data-testid=my-sheets] li', (items) =>
+      items.map((item) => ({ id: Number(item.getAttribute('data-my-sheet')), status: item.querySelector('[data-sheet-status]')?.getAttribute('data-sheet-status') })),
+    )
+    const statuses = rows.map((row) => row.status)
+    expect(statuses.lastIndexOf('returned')).toBeLessThan(statuses.indexOf('draft'))
+    const ids = rows.map((row) => row.id)
+    expect(ids).toContain(returned)
+    expect(ids.indexOf(returned)).toBeLessThan(ids.indexOf(fresh))
+    expect(ids[statuses.indexOf('draft')]).toBe(fresh)
+    await screenshot(page, 'home-engineer-returned-first')
     await page.close()
   })
 })
