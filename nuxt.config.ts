@@ -26,6 +26,17 @@ export default defineNuxtConfig({
     // The sealed cookie (nuxt-auth-utils) lives as long as the server-side session may:
     // absoluteLifetimeHours of server/services/sessions.ts (12 h), in seconds.
     session: { maxAge: 12 * 60 * 60 },
+    // Where attachments are stored (server/utils/object-store.ts): any S3-compatible store. The defaults are the
+    // local fake of scripts/object-store (s3rver); NUXT_OBJECT_STORE_ENDPOINT etc. point it elsewhere, and an
+    // empty endpoint means the hosted service's own for the region.
+    objectStore: {
+      endpoint: 'http://127.0.0.1:4568',
+      region: 'us-east-1',
+      bucket: 'loopwright',
+      accessKeyId: 'S3RVER',
+      secretAccessKey: 'S3RVER',
+      forcePathStyle: true,
+    },
     public: { appName: 'Loopwright', siteUrl: '' },
   },
   typescript: { strict: true },
@@ -81,6 +92,8 @@ export default defineNuxtConfig({
     '/_nuxt/**': { headers: { 'cross-origin-embedder-policy': 'credentialless' } },
     // The route stops reading at its own limit and answers 413 naming `file` (the request guard).
     '/api/calculate': { security: { requestSizeLimiter: false } },
+    // The attachment upload likewise: up to 25 MiB, its 413 naming `file` (server/utils/request-limits.ts).
+    '/api/sheets/*/attachments': { security: { requestSizeLimiter: false } },
   },
   // The loop templates engineers start from, bundled into the server (resolved from server/, hence ../).
   nitro: { serverAssets: [{ baseName: 'sheets', dir: '../sheets' }] },

@@ -14,6 +14,12 @@ SMTP_PORT=$((2525 + PORT_OFFSET))
 MAIL_HTTP_PORT=$((2580 + PORT_OFFSET))
 TEST_SMTP_PORT=$((2526 + PORT_OFFSET))
 TEST_MAIL_HTTP_PORT=$((2581 + PORT_OFFSET))
+# The local fake of S3-compatible object storage (scripts/object-store): one for the served app, one for the browser
+# tests (the server tests' app has one of its own on the next port: tests/setup/app.ts).
+OBJECT_STORE_PORT=$((4568 + PORT_OFFSET))
+TEST_OBJECT_STORE_PORT=$((4569 + PORT_OFFSET))
+OBJECT_STORE_BUCKET=loopwright
+TEST_OBJECT_STORE_BUCKET=loopwright-test
 
 say() { printf '%s\n' "$*"; }
 die() { printf 'error: %s\n' "$*" >&2; exit 1; }

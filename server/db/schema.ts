@@ -541,3 +541,38 @@ export const acknowledgements = pgTable(
   },
   (table) => [uniqueIndex('acknowledgements_revision_person').on(table.revisionId, table.personId)],
 )
+
+// ---------------------------------------------------------------------------------------------------------------
+// Branch `attach` (issue 10, item 1): attachments of a revision, their bytes in S3-compatible object storage.
+
+/**
+ * A file attached to one sheet revision: the record here, the bytes in object storage under `object_key`
+ * (server/services/attachments.ts). `type` is what the content was found to be, never what the name says.
+ * An issued or superseded revision's attachments are frozen with it (drizzle/0013_attachments_frozen.sql).
+ */
+export const attachments = pgTable(
+  'attachments',
+  {
+    id: serial('id').primaryKey(),
+    revisionId: integer('revision_id')
+      .notNull()
+      .references(() => sheetRevisions.id),
+    name: text('name').notNull(),
+    size: integer('size').notNull(),
+    /** SHA-256 of the bytes, hex. */
+    sha256: text('sha256').notNull(),
+    /** The media type found from the content: application/pdf, image/png, image/jpeg, text/csv, text/plain. */
+    type: text('type').notNull(),
+    objectKey: text('object_key').notNull().unique(),
+    uploadedBy: integer('uploaded_by')
+      .notNull()
+      .references(() => people.id),
+    uploadedAt: timestamp('uploaded_at', { withTimezone: true }).notNull().defaultNow(),
+  },
+  (table) => [
+    index('attachments_revision').on(table.revisionId),
+    check('attachments_size_positive', sql`${table.size} > 0`),
+    check('attachments_sha256_hex', sql`${table.sha256} ~ '^[0-9a-f]{64}$'`),
+    check('attachments_type_known', sql`${table.type} in ('application/pdf', 'image/png', 'image/jpeg', 'text/csv', 'text/plain')`),
+  ],
+)

@@ -1,6 +1,6 @@
 // Runs first on every state-changing request (DEVELOPERS.md, "Requests the server refuses"):
 //  - another site's Origin: 403, audited (a cross-site form post must change nothing);
-//  - an /api body that is not application/json: 415 (NON_JSON_ROUTES lists the exceptions, none yet);
+//  - an /api body that is not application/json: 415 (NON_JSON_ROUTES lists the exceptions: the attachment upload);
 //  - an /api body past its route's limit: 413 naming the field, reading stopped at the limit, chunked or not.
 // The body read here is handed to h3's readBody/readRawBody as `rawBody`, so routes read it as usual.
 import type { IncomingMessage } from 'node:http'
@@ -16,13 +16,14 @@ export default defineEventHandler(async (event) => {
   if (!path.startsWith('/api/') || !hasBody(event.node.req)) return
 
   const mediaType = (getRequestHeader(event, 'content-type') ?? '').split(';')[0]!.trim().toLowerCase()
-  const accepted = NON_JSON_ROUTES[path] ?? ['application/json']
+  const key = limitKeyOf(path)
+  const accepted = NON_JSON_ROUTES[key] ?? ['application/json']
   if (!accepted.includes(mediaType)) {
     const message = `Send the body as ${accepted.join(' or ')}${mediaType ? `, not ${mediaType}` : ''}`
     throw createError({ statusCode: 415, statusMessage: 'Unsupported media type', message, data: { message } })
   }
 
-  const limit = BODY_LIMITS[path] ?? { bytes: GENERAL_BODY_BYTES, field: 'body', what: `the limit of ${GENERAL_BODY_BYTES / 1024} KiB` }
+  const limit = BODY_LIMITS[key] ?? { bytes: GENERAL_BODY_BYTES, field: 'body', what: `the limit of ${GENERAL_BODY_BYTES / 1024} KiB` }
   try {
     ;(event.node.req as IncomingMessage & { rawBody?: Buffer }).rawBody = await readBodyWithin(event, limit.bytes)
   } catch (error) {

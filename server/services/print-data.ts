@@ -8,6 +8,7 @@ import type { PrintIssue, PrintSheet } from '../../shared/schemas/print'
 import type { SheetStatus } from '../../shared/schemas/sheet'
 import { revisionDetail } from './sheets'
 import { contentHash } from '../utils/content-hash'
+import { revisionAttachments } from './attachments'
 
 export async function printSheet(db: Database, revisionId: number, issue: PrintIssue | null, siteUrl: string): Promise<PrintSheet | null> {
   const detail = await revisionDetail(db, revisionId)
@@ -41,5 +42,6 @@ export async function printSheet(db: Database, revisionId: number, issue: PrintI
     // The signatures of this revision (server/services/lifecycle.ts); each holds while the document hashes to it.
     signatures: signed.map((row) => ({ name: row.printedName, role: row.role, meaning: row.meaning, signedAt: row.signedAt.toISOString(), holds: row.contentHash === hash })),
     issue: issue || (issued && label) ? { ...(issue ?? {}), label: label!, contentHash: hash, verifyUrl } : null,
+    attachments: await revisionAttachments(db, revisionId),
   }
 }

@@ -12,5 +12,5 @@ export function contentHash(document: unknown): string {
 
 export const sha256Hex = (bytes: Uint8Array): string => createHash('sha256').update(bytes).digest('hex')
 
-/** The first 12 hex digits: what a printed page and a person's eye compare (48 bits). */
-export const shortHash = (hash: string) => hash.slice(0, 12)
+/** The first 12 hex digits: what a printed page and a person's eye compare (48 bits); one definition, shared with the screens. */
+export { shortHash } from '../../shared/schemas/attachments'

@@ -1,4 +1,5 @@
 // The print view's data when the PDF renderer opens it (GET /api/print/[token]), and the rule that names a PDF.
+import type { AttachmentView } from './attachments'
 import { z } from 'zod'
 import type { SheetStatus } from './sheet'
 import type { SheetDetail } from './sheets'
@@ -39,6 +40,8 @@ export interface PrintSheet extends SheetDetail {
   signatures: PrintSignature[]
   /** Set on an issued (or being issued, or superseded) revision: what the issued PDF's last page states. */
   issue: (Partial<PrintIssue> & { label: string; contentHash: string; verifyUrl: string }) | null
+  /** The files attached to this revision (server/services/attachments.ts), in the references list. */
+  attachments: AttachmentView[]
 }
 
 /** `[A-Za-z0-9._-]` only, so the name is the same on every file system and in every header. */

@@ -100,6 +100,9 @@ function probesOf(row: RouteRow, prepared: { params?: Record<string, string>; bo
     for (const [index, body] of (row.badBodies?.(prepared.body) ?? []).entries()) {
       probes.push({ label: `bad body ${index + 1}`, send: (client) => client.raw(row.method, path, JSON.stringify(body)) })
     }
+    for (const [index, form] of (row.badForms?.() ?? []).entries()) {
+      probes.push({ label: `bad form ${index + 1}`, send: (client) => client.request(row.method, path, form) })
+    }
   }
   if (row.list) {
     for (const query of badQueries) probes.push({ label: `?${query.slice(0, 40)}`, send: (client) => client.request(row.method, `${path}?${query}`) })

@@ -1,14 +1,16 @@
-// Global set-up of the server and browser tests (tests/vitest.config.ts): PostgreSQL and the test mail sink up,
-// a fresh database loopwright_test migrated and seeded, the built app on 127.0.0.1:3199.
+// Global set-up of the server and browser tests (tests/vitest.config.ts): PostgreSQL, the test mail sink and the
+// test object store up, a fresh database loopwright_test migrated and seeded, an emptied bucket, the built app on
+// 127.0.0.1:3199.
 // Vitest calls this once per project and runs the projects side by side, so each project gets an instance of
 // its own, and one project's rows never show up in the other's pages:
-//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581
-//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582
+//   e2e (the values of DEVELOPERS.md)  app 127.0.0.1:3199, database loopwright_test,        sink 2526/2581, object store 4569
+//   server                             app 127.0.0.1:3198, database loopwright_test_server, sink 2527/2582, object store 4570
 // Teardown stops the app and drops its database.
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
 import { existsSync, openSync, readFileSync, writeFileSync, rmSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import postgres from 'postgres'
+import { CreateBucketCommand, DeleteObjectsCommand, ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3'
 import type { TestProject } from 'vitest/node'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -19,6 +21,9 @@ export interface Instance {
   database: string
   smtpPort: number
   mailHttpPort: number
+  /** The object store of this instance (scripts/object-store) and its bucket. */
+  objectStorePort: number
+  bucket: string
 }
 
 /** LOOPWRIGHT_PORT_OFFSET shifts every port, as in scripts/lib/common.sh. */
@@ -26,7 +31,7 @@ const offset = Number(process.env.LOOPWRIGHT_PORT_OFFSET ?? 0)
 
 export function instanceOf(project: string): Instance {
   // The editor's browser benchmark (scripts/bench-editor.ts): an app and database of its own, no mail sent.
-  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
+  if (project === 'bench') return { name: 'bench', appPort: 3197 + offset, database: 'loopwright_bench', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, objectStorePort: 4569 + offset, bucket: 'loopwright-bench' }
   if (project === 'server') {
     return {
       name: 'server',
@@ -34,9 +39,12 @@ export function instanceOf(project: string): Instance {
       database: 'loopwright_test_server',
       smtpPort: 2527 + offset,
       mailHttpPort: 2582 + offset,
+      // A store of its own: tests/server/attachments.test.ts stops it to see a failed store leave nothing behind.
+      objectStorePort: 4570 + offset,
+      bucket: 'loopwright-test-server',
     }
   }
-  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset }
+  return { name: 'e2e', appPort: 3199 + offset, database: 'loopwright_test', smtpPort: 2526 + offset, mailHttpPort: 2581 + offset, objectStorePort: 4569 + offset, bucket: 'loopwright-test' }
 }
 
 export interface Running {
@@ -60,6 +68,8 @@ function testEnv(instance: Instance): Record<string, string> {
     ...env,
     NUXT_DATABASE_URL: databaseUrl.toString(),
     NUXT_SMTP_PORT: String(instance.smtpPort),
+    NUXT_OBJECT_STORE_ENDPOINT: `http://127.0.0.1:${instance.objectStorePort}`,
+    NUXT_OBJECT_STORE_BUCKET: instance.bucket,
     NUXT_PUBLIC_SITE_URL: `http://127.0.0.1:${instance.appPort}`,
     HOST: '127.0.0.1',
     PORT: String(instance.appPort),
@@ -77,6 +87,30 @@ async function recreateDatabase(databaseUrl: string, create: boolean) {
   } finally {
     await sql.end()
   }
+}
+
+/** The instance's bucket as the app sees it (NUXT_OBJECT_STORE_*). */
+function objectStoreClient(env: Record<string, string>): { client: S3Client; bucket: string } {
+  const client = new S3Client({
+    endpoint: env.NUXT_OBJECT_STORE_ENDPOINT,
+    region: env.NUXT_OBJECT_STORE_REGION,
+    forcePathStyle: true,
+    credentials: { accessKeyId: env.NUXT_OBJECT_STORE_ACCESS_KEY_ID!, secretAccessKey: env.NUXT_OBJECT_STORE_SECRET_ACCESS_KEY! },
+  })
+  return { client, bucket: env.NUXT_OBJECT_STORE_BUCKET! }
+}
+
+/** Made when missing, and emptied: the tests list it to see what was kept. */
+async function emptyBucket(env: Record<string, string>) {
+  const { client, bucket } = objectStoreClient(env)
+  await client.send(new CreateBucketCommand({ Bucket: bucket })).catch(() => undefined)
+  for (;;) {
+    const listed = await client.send(new ListObjectsV2Command({ Bucket: bucket }))
+    const keys = (listed.Contents ?? []).map((object) => ({ Key: object.Key! }))
+    if (keys.length === 0) break
+    await client.send(new DeleteObjectsCommand({ Bucket: bucket, Delete: { Objects: keys } }))
+  }
+  client.destroy()
 }
 
 /** An app left behind by an interrupted run would hold the port. */
@@ -111,7 +145,9 @@ export async function start(instance: Instance): Promise<Running> {
   const logFile = `${root}.data/test-app-${instance.name}.log`
   run(`${root}scripts/db`, ['start'])
   run(`${root}scripts/mail-sink`, ['start', String(instance.smtpPort), String(instance.mailHttpPort)])
+  run(`${root}scripts/object-store`, ['start', String(instance.objectStorePort), instance.bucket])
   const env = testEnv(instance)
+  await emptyBucket(env)
   await recreateDatabase(env.NUXT_DATABASE_URL!, true)
   run('node', ['--import', 'tsx', 'scripts/migrate.ts'], env)
   run('node', ['--import', 'tsx', 'scripts/seed.ts'], env)
@@ -145,5 +181,13 @@ export default async function setup(project: TestProject) {
   project.provide('baseUrl', `http://127.0.0.1:${running.instance.appPort}`)
   project.provide('mailApiUrl', `http://127.0.0.1:${running.instance.mailHttpPort}`)
   project.provide('databaseUrl', running.env.NUXT_DATABASE_URL!)
+  project.provide('objectStore', {
+    port: running.instance.objectStorePort,
+    endpoint: running.env.NUXT_OBJECT_STORE_ENDPOINT!,
+    region: running.env.NUXT_OBJECT_STORE_REGION!,
+    bucket: running.instance.bucket,
+    accessKeyId: running.env.NUXT_OBJECT_STORE_ACCESS_KEY_ID!,
+    secretAccessKey: running.env.NUXT_OBJECT_STORE_SECRET_ACCESS_KEY!,
+  })
   return () => stop(running)
 }

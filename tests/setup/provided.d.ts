@@ -7,6 +7,8 @@ declare module 'vitest' {
     mailApiUrl: string
     /** postgres:// URL of the test database loopwright_test */
     databaseUrl: string
+    /** The instance's bucket in the test object store (scripts/object-store), to list what the app kept. */
+    objectStore: { port: number; endpoint: string; region: string; bucket: string; accessKeyId: string; secretAccessKey: string }
   }
 }
 

@@ -28,22 +28,26 @@ export class Client {
     readonly headers: Record<string, string> = {},
   ) {}
 
+  /** `body`: sent as JSON, or as multipart/form-data when it is a FormData (an upload). */
   async request<T = any>(method: string, path: string, body?: unknown): Promise<Answer<T>> {
+    const form = body instanceof FormData
     const answer = await fetch(`${inject('baseUrl')}${path}`, {
       ...(this.from ? { dispatcher: agentFrom(this.from) } : {}),
       method,
       headers: {
         ...this.headers,
-        ...(body === undefined ? {} : { 'content-type': 'application/json' }),
+        // fetch writes a form's own content type, with its boundary.
+        ...(body === undefined || form ? {} : { 'content-type': 'application/json' }),
         ...(this.cookie ? { cookie: this.cookie } : {}),
       },
-      body: body === undefined ? undefined : JSON.stringify(body),
+      body: body === undefined ? undefined : form ? body : JSON.stringify(body),
       redirect: 'manual',
     })
     const setCookie = answer.headers.get('set-cookie')
     if (setCookie) this.cookie = setCookie.split(';')[0]!.endsWith('=') ? '' : setCookie.split(';')[0]!
-    // A PDF (GET /api/revisions/[id]/pdf) comes back as its bytes; everything else is JSON.
-    if (answer.headers.get('content-type')?.startsWith('application/pdf')) {
+    // A PDF (GET /api/revisions/[id]/pdf) or an attachment (GET /api/attachments/[id]) comes back as its bytes;
+    // everything else is JSON.
+    if (answer.headers.get('content-type')?.startsWith('application/pdf') || answer.headers.get('content-disposition')?.startsWith('attachment')) {
       return { status: answer.status, body: Buffer.from(await answer.arrayBuffer()) as T, headers: answer.headers }
     }
     const text = await answer.text()
@@ -82,6 +86,17 @@ export class Client {
   delete<T = any>(path: string) {
     return this.request<T>('DELETE', path)
   }
+  /** POST of one file in the multipart field `file` (POST /api/sheets/[id]/attachments). */
+  upload<T = any>(path: string, name: string, bytes: Uint8Array, type = 'application/octet-stream') {
+    return this.request<T>('POST', path, formWith(name, bytes, type))
+  }
+}
+
+/** A multipart form holding one file in the field `file`. */
+export function formWith(name: string, bytes: Uint8Array, type = 'application/octet-stream'): FormData {
+  const form = new FormData()
+  form.append('file', new Blob([bytes], { type }), name)
+  return form
 }
 
 /**

@@ -5,7 +5,7 @@
 import { createHash } from 'node:crypto'
 import type { Role } from '../../../shared/schemas/roles'
 import { demoPassword } from '../../../scripts/demo-people'
-import { Client, database, demo, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
+import { Client, database, demo, formWith, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
 export const callers = ['signedOut', 'admin', 'engineer', 'checker', 'client'] as const
@@ -67,6 +67,8 @@ export interface RouteRow {
   accepts?: Record<string, ValueShape[]>
   /** Whole bodies, beyond the value-by-value shapes, that must be refused with a 4xx. */
   badBodies?: (valid: unknown) => unknown[]
+  /** Multipart forms (an upload route's) that must be refused with a 4xx. */
+  badForms?: () => FormData[]
   /** Not a file of server/api/ but a module's own route (nuxt-auth-utils). */
   module?: string
   /**
@@ -84,6 +86,9 @@ export interface RouteRow {
   /** A prepare of its own for the other project, where `prepare(kit.elsewhere())` cannot serve. */
   prepareElsewhere?: (kit: Kit) => Promise<Prepared>
 }
+
+/** A small step-test-like CSV (invented numbers), the upload routes' sample. */
+export const sampleCsv = () => new TextEncoder().encode('time_s,output_pct,flow_lps\n0,40,1.20\n1,45,1.21\n2,45,1.32\n')
 
 /**
  * Routes that act on a record of one project: their rows need `scope: 'project'`, so the matrix calls them as a
@@ -365,6 +370,17 @@ export class Kit {
       const [row] = await database()`select id from package_issues where package_id = ${made.id}`
       return row!.id as number
     })
+  }
+  /** A new attachment (a small CSV) of the sample sheet's draft, uploaded by this place's engineer. */
+  async newSampleAttachment(): Promise<number> {
+    const sheet = await this.sampleSheet()
+    const answer = await (await this.engineer()).upload(`/api/sheets/${sheet.id}/attachments`, 'route-table.csv', sampleCsv(), 'text/csv')
+    if (answer.status !== 201) throw new Error(`uploading a sample attachment answered ${answer.status}: ${JSON.stringify(answer.body)}`)
+    return answer.body.id as number
+  }
+  /** One attachment of the sample sheet's draft, made once. */
+  sampleAttachment(): Promise<number> {
+    return this.once('attachment', () => this.newSampleAttachment())
   }
   /** The id of the sample sheet's revision (a draft). */
   async sampleRevisionId(): Promise<number> {
@@ -756,6 +772,55 @@ export const routes: RouteRow[] = [
     // A draft's preview: a client never sees one; the issued case is in tests/server/pdf.test.ts.
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String(await kit.sampleRevisionId()) } }),
+  },
+  // Attachments (server/services/attachments.ts; tests/server/attachments.test.ts): the sheet's permissions, on a
+  // draft here, so a client sees none; uploads and deletions by engineer members only.
+  {
+    method: 'POST',
+    route: '/api/sheets/[id]/attachments',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 201, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) }, body: formWith('route-table.csv', sampleCsv(), 'text/csv') }),
+    badForms: () => {
+      const forms: FormData[] = []
+      const add = (fill: (form: FormData) => void) => {
+        const form = new FormData()
+        fill(form)
+        forms.push(form)
+      }
+      const file = () => new Blob([sampleCsv()], { type: 'text/csv' })
+      add(() => undefined) // no field at all
+      add((form) => form.append('file', 'text, not a file'))
+      add((form) => form.append('upload', file(), 'x.csv'))
+      add((form) => (form.append('file', file(), 'a.csv'), form.append('file', file(), 'b.csv')))
+      for (const name of ['../x.csv', 'a/b.csv', 'a\\b.csv', 'nul\u0000.csv', 'tab\t.csv', 'x'.repeat(100_000), '']) {
+        add((form) => form.append('file', file(), name))
+      }
+      add((form) => form.append('file', new Blob([]), 'empty.csv'))
+      add((form) => form.append('file', new Blob([new Uint8Array([0x4d, 0x5a, 0x90, 0x00, 0x03, 0x00])]), 'program.pdf'))
+      return forms
+    },
+  },
+  {
+    method: 'GET',
+    route: '/api/sheets/[id]/attachments',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/attachments/[id]',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.sampleAttachment()) } }),
+  },
+  {
+    method: 'DELETE',
+    route: '/api/attachments/[id]',
+    scope: 'project',
+    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    prepare: async (kit) => ({ params: { id: String(await kit.newSampleAttachment()) } }),
   },
   {
     method: 'POST',
