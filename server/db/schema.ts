@@ -563,7 +563,8 @@ export const attachments = pgTable(
     sha256: text('sha256').notNull(),
     /** The media type found from the content: application/pdf, image/png, image/jpeg, text/csv, text/plain. */
     type: text('type').notNull(),
-    objectKey: text('object_key').notNull().unique(),
+    /** The stored object; a revision started from this one carries the same key (objects are never rewritten). */
+    objectKey: text('object_key').notNull(),
     uploadedBy: integer('uploaded_by')
       .notNull()
       .references(() => people.id),
@@ -571,6 +572,7 @@ export const attachments = pgTable(
   },
   (table) => [
     index('attachments_revision').on(table.revisionId),
+    index('attachments_object_key').on(table.objectKey),
     check('attachments_size_positive', sql`${table.size} > 0`),
     check('attachments_sha256_hex', sql`${table.sha256} ~ '^[0-9a-f]{64}$'`),
     check('attachments_type_known', sql`${table.type} in ('application/pdf', 'image/png', 'image/jpeg', 'text/csv', 'text/plain')`),

@@ -579,6 +579,12 @@ export async function reviseSheet(db: Database, sheetId: number, body: VersionBo
         })
         .returning({ id: sheetRevisions.id })
       await tx.insert(revisionEditors).values({ revisionId: created!.id, personId: viewer.id })
+      // The references' files go with the content: the new draft lists the same stored objects (never rewritten),
+      // and removing one from the draft leaves the object while an earlier revision still names it.
+      await tx.execute(sql`
+        insert into attachments (revision_id, name, size, sha256, type, object_key, uploaded_by, uploaded_at)
+        select ${created!.id}, name, size, sha256, type, object_key, uploaded_by, uploaded_at
+        from attachments where revision_id = ${state.revision.id} order by id`)
       await recordAuditEvent(tx, context, {
         action: 'sheet.revised',
         subjectType: 'sheet',
