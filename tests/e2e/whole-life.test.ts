@@ -32,6 +32,8 @@ let sql: postgres.Sql
 let sheetId: number
 let sheetNumber: string
 let downloads: string
+/** The engineer's API session: the witness's reads. */
+let witness: string
 
 beforeAll(async () => {
   chromium = await launchBrowser()
@@ -51,8 +53,8 @@ beforeAll(async () => {
     const added = await api(admin, `/api/projects/${project.body.id}/members`, { method: 'POST', body: { personId: found.body.items[0]!.id, role } })
     expect(added.status).toBe(201)
   }
-  const engineer = await apiSignIn(people.engineer, demoPassword)
-  const created = await api<{ id: number; number: string }>(engineer, `/api/projects/${project.body.id}/sheets`, {
+  witness = await apiSignIn(people.engineer, demoPassword)
+  const created = await api<{ id: number; number: string }>(witness, `/api/projects/${project.body.id}/sheets`, {
     method: 'POST',
     body: { title: 'Booster discharge pressure, whole life', loopTag: 'PIC-214-71', template: 'pi-pressure-loop' },
   })
@@ -68,7 +70,7 @@ afterAll(async () => {
 
 /** The sheet as the server holds it: the witness. */
 async function stored(): Promise<SheetDetail> {
-  return (await api<SheetDetail>(await apiSignIn(people.engineer, demoPassword), `/api/sheets/${sheetId}`)).body
+  return (await api<SheetDetail>(witness, `/api/sheets/${sheetId}`)).body
 }
 
 /** Signs in on a page of its own and opens the sheet from the home page's list, as the person would. */
@@ -156,8 +158,6 @@ describe('a sheet from draft to its second revision, in the browser', () => {
     await checker.type('[data-testid=return-reason]', 'One comment on the pump and header block.')
     await checker.click('[data-testid=lifecycle-confirm]')
     await waitForState(checker, 'returned')
-    await screenshot(checker, 'whole-life-1-returned')
-    await checker.close()
 
     // The engineer: the returned sheet first on the home page; answers, fixes the gain, submits again.
     await engineer.goto(`${baseUrl()}/`, { waitUntil: 'networkidle0' })
@@ -175,20 +175,26 @@ describe('a sheet from draft to its second revision, in the browser', () => {
     expect(resubmitted.revision.version).toBe(2)
 
     // The checker resolves the answered comment; approval is then offered, and signed with the password.
-    const checkerAgain = await openFromHome(people.checker, `[data-queued="${sheetId}"]`)
-    expect(await textOf(checkerAgain, '[data-testid=comment-answer]')).toContain('0.9')
-    await checkerAgain.click('[data-testid=resolve]')
-    await checkerAgain.waitForSelector('[data-testid=comment][data-comment-state=resolved]')
-    await checkerAgain.waitForSelector('[data-testid=lifecycle-approve]')
-    await signWith(checkerAgain, 'approve')
-    await waitForState(checkerAgain, 'approved')
-    await checkerAgain.waitForSelector('[data-testid=signatures] li[data-holds=true]')
-    await checkerAgain.close()
+    await checker.goto(`${baseUrl()}/`, { waitUntil: 'networkidle0' })
+    await checker.click(`[data-queued="${sheetId}"] a`)
+    await checker.waitForSelector('[data-testid=comment-answer]')
+    expect(await textOf(checker, '[data-testid=comment-answer]')).toContain('0.9')
+    await checker.click('[data-testid=resolve]')
+    await checker.waitForSelector('[data-testid=comment][data-comment-state=resolved]')
+    await checker.waitForSelector('[data-testid=lifecycle-approve]')
+    await signWith(checker, 'approve')
+    await waitForState(checker, 'approved')
+    await checker.waitForSelector('[data-testid=signatures] li[data-holds=true]')
+    await checker.close()
 
-    // The engineer issues it for implementation, signing too. The page may show the issue's progress first.
-    await engineer.reload({ waitUntil: 'networkidle0' })
+    // The engineer finds it on the home page, approved and ready to issue, and issues it for implementation,
+    // signing too. The page may show the issue's progress first: the test waits for the state it shows.
+    await engineer.goto(`${baseUrl()}/`, { waitUntil: 'networkidle0' })
+    await engineer.click(`[data-ready-sheet="${sheetId}"] a`)
+    await engineer.waitForSelector('[data-testid=lifecycle-issue]')
     await signWith(engineer, 'issue')
     await waitForState(engineer, 'issued')
+    await engineer.waitForSelector('[data-testid=lifecycle-pdf]')
     await screenshot(engineer, 'whole-life-2-issued')
     const issued = await stored()
     expect(issued.revision).toMatchObject({ status: 'issued', label: '0' })
