@@ -6,6 +6,7 @@
 // history page shows both revisions, their signatures and the change. Only the set-up (a project and a sheet of
 // their own) goes through the API; every step of the life is a click or a keystroke, and the server's stored rows
 // are the witness of what the screens show.
+import { execFileSync } from 'node:child_process'
 import { createHash } from 'node:crypto'
 import { mkdtemp, readdir, readFile, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
@@ -221,9 +222,17 @@ describe('a sheet from draft to its second revision, in the browser', () => {
     await client.waitForSelector(`${row}[data-linked]`)
     expect(await textOf(client, '[data-testid=portal-linked]')).toContain(`${sheetNumber} revision 0`)
     await client.click(`${row} [data-download]`)
-    const bytes = await readFile(await downloaded())
+    const file = await downloaded()
+    const bytes = await readFile(file)
     expect(bytes.subarray(0, 5).toString()).toBe('%PDF-')
     expect(createHash('sha256').update(bytes).digest('hex')).toBe(pdfRow!.sha256)
+    // Read back as a client's reader would (Debian's poppler-utils): the title block names the checker on every
+    // page, and the sign-off block both signatures over the content the signatures bind to.
+    const text = execFileSync('pdftotext', ['-layout', file, '-'], { encoding: 'utf8' })
+    expect(text).not.toContain('not yet checked')
+    const pages = Number(execFileSync('pdfinfo', [file], { encoding: 'utf8' }).match(/^Pages:\s+(\d+)/m)![1])
+    expect(text.match(/Henrik Salo, \d+ \w+ \d{4}/g)?.length).toBeGreaterThanOrEqual(pages)
+    expect(text.match(new RegExp(`Signed electronically over content ${issued.lifecycle.contentHash.slice(0, 12)}`, 'g'))).toHaveLength(2)
     await client.click(`${row} [data-acknowledge]`)
     await client.waitForSelector(`${row} [data-acknowledged]`)
     await screenshot(client, 'whole-life-3-client')
