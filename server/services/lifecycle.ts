@@ -266,8 +266,11 @@ export interface Links {
   siteUrl: string
 }
 const sheetLink = (links: Links, sheetId: number) => `${links.siteUrl.replace(/\/$/, '')}/sheets/${sheetId}`
-/** The issued document: the PDF route of the pdf branch (GET /api/revisions/[id]/pdf), reached after signing in. */
-const documentLink = (links: Links, revisionId: number) => `${links.siteUrl.replace(/\/$/, '')}/api/revisions/${revisionId}/pdf`
+/**
+ * The issued document in the client's portal (their home page, the revision marked): a link to the PDF route itself
+ * answered a signed-out reader with a bare 401, where this page sends them to sign in first and back here after.
+ */
+const documentLink = (links: Links, revisionId: number) => `${links.siteUrl.replace(/\/$/, '')}/?revision=${revisionId}`
 
 async function checkersOf(db: Executor, projectId: number, except: number[]) {
   const rows = await db

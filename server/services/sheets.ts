@@ -182,7 +182,8 @@ export async function listProjectSheets(db: Database, projectId: number, query: 
 
 /**
  * GET /api/sheets: the sheets whose current revision `viewer` prepared, across the projects they are still an
- * engineer member of; `mine=drafts` keeps the ones they can still edit (draft or returned).
+ * engineer member of; `mine=drafts` keeps the ones they can still edit (draft or returned), `mine=ready` the approved
+ * ones waiting to be issued.
  */
 export async function listMySheets(db: Database, query: MySheetsQuery, viewer: Viewer): Promise<Page<MySheetRow>> {
   const filters = [
@@ -191,6 +192,7 @@ export async function listMySheets(db: Database, query: MySheetsQuery, viewer: V
     sql`exists (select 1 from ${projectMembers} m where m.project_id = "sheets"."project_id" and m.person_id = ${viewer.id} and m.role = 'engineer')`,
   ]
   if (query.mine === 'drafts') filters.push(inArray(sheets.currentStatus, [...editableStatuses]))
+  if (query.mine === 'ready') filters.push(eq(sheets.currentStatus, 'approved'))
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db

@@ -3,6 +3,8 @@ import type { AttachmentView } from './attachments'
 import { z } from 'zod'
 import type { SheetStatus } from './sheet'
 import type { SheetDetail } from './sheets'
+import type { IssuePurpose } from './lifecycle'
+import type { RevisionSignature } from './revisions'
 import { plainText } from './text'
 
 /** GET /api/print/[token]: the render token of server/utils/render-token.ts. */
@@ -17,21 +19,18 @@ export interface PrintIssue {
   issuedAt: string
 }
 
-/** A signature as the PDF prints it: who, in which role, what it means, when (UTC), and whether it still holds. */
-export interface PrintSignature {
-  name: string
-  role: string
-  meaning: string
-  signedAt: string
-  holds: boolean
-}
+/** A signature as the PDF prints it: the history's own (who, role, meaning, UTC time, hash, whether it holds). */
+export type PrintSignature = RevisionSignature
 
 export interface PrintHistoryRow {
   index: number
   label: string | null
   status: SheetStatus
+  purpose: IssuePurpose | null
   createdAt: string
   preparedBy: string
+  editedBy: string
+  editedAt: string
 }
 
 export interface PrintSheet extends SheetDetail {

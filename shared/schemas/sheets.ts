@@ -70,7 +70,8 @@ export type SheetsQuery = z.output<typeof sheetsQuerySchema>
 export const mySheetsQuerySchema = listQuerySchema(sheetSortable).extend({
   q: plainText(200).optional().default(''),
   page: pageQuery,
-  mine: z.enum(['drafts', 'all']).optional().default('drafts'),
+  /** drafts: the ones still being written (draft, returned); ready: approved, waiting to be issued; all. */
+  mine: z.enum(['drafts', 'ready', 'all']).optional().default('drafts'),
 })
 export type MySheetsQuery = z.output<typeof mySheetsQuerySchema>
 

@@ -62,7 +62,7 @@ describe('the life of one sheet', () => {
     const [pdf] = await database()`select p.sha256, p.bytes, p.file_name from revision_pdfs p where p.revision_id = ${issued.body.revisionId}`
     expect(pdf!.sha256).toBe(createHash('sha256').update(pdf!.bytes).digest('hex'))
     expect(Buffer.from(pdf!.bytes).subarray(0, 5).toString()).toBe('%PDF-')
-    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/api/revisions/${issued.body.revisionId}/pdf%`}`
+    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/?revision=${issued.body.revisionId}\n%`}`
     expect(mailed!.n).toBe(1)
     const after = (await cast.client.get(`/api/sheets/${sheet.id}`)).body
     expect(after.lifecycle.signatures.map((s: { meaning: string; holds: boolean }) => [s.meaning, s.holds])).toEqual([['checked and approved', true], ['issued', true]])
