@@ -107,7 +107,7 @@ export function loopbackOrigin() {
 }
 
 /** Prints `path` of this app to PDF bytes, blocking every request that is not to this app. */
-async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
+export async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
   const origin = loopbackOrigin()
   return withTab(async () => {
     const browser = await warmBrowser()

@@ -781,6 +781,13 @@ export const routes: RouteRow[] = [
     expect: everyone(403),
     prepare: async () => ({ params: { token: 'not-a-render-token.x' } }),
   },
+  {
+    method: 'GET',
+    route: '/api/package-print/[token]',
+    // The package cover's data for the PDF renderer: only a cover token of its own process, never a session.
+    expect: everyone(403),
+    prepare: async () => ({ params: { token: 'not-a-cover-token' } }),
+  },
 ]
 
 /** The path of `row` with `params` put in (as given: a bad-input shape such as `%00` goes as it is). */
