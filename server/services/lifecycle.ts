@@ -56,6 +56,7 @@ import { refused, viewSheet, type Refused } from './sheets'
 import type { PdfRenderer } from './issue-pdf'
 import { enqueueJob, JobFailure, type JobContext } from './jobs'
 import type { CoverFacts, PackagePart } from './package-pdf'
+import { renderTabs } from './pdf-render'
 
 // ---------------------------------------------------------------------------------------------------------------
 // Who may do what
@@ -708,11 +709,15 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
   const stamp = (label: string) => ({ label, purpose: job.purpose, issuedBy: issuer.name, issuedAt: issuedAt.toISOString() })
   const total = first.ordered.length
   const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
-  const parts: PackagePart[] = []
-  for (const [index, state] of first.ordered.entries()) {
-    if (run.signal.aborted) throw new Error('The render was stopped before it finished')
-    const what = `sheet ${index + 1} of ${total}: ${state.sheet.number}`
-    await run.progress({ done: index, total, what })
+  const parts: PackagePart[] = new Array(total)
+  // As many sheets at once as the renderer has tabs: each lane takes the next sheet. On a failure no lane starts
+  // another, and the failure of the first failed sheet in the package's order is the job's error.
+  let next = 0
+  let finished = 0
+  const failures = new Map<number, Error>()
+  const renderOne = async (index: number) => {
+    const state = first.ordered[index]!
+    await run.progress({ done: finished, total, what: `sheet ${index + 1} of ${total}: ${state.sheet.number}` })
     const label = first.labels.get(state.sheet.id)
     let bytes: Uint8Array
     if (label !== undefined) {
@@ -728,8 +733,18 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
       if (!stored) throw new JobFailure(`Sheet ${state.sheet.number} is issued but has no stored PDF`, false)
       bytes = stored.bytes
     }
-    parts.push({ number: state.sheet.number, title: state.sheet.title, loopTag: state.sheet.loopTag, label: label ?? state.revision.label ?? '', newInPackage: label !== undefined, bytes })
+    parts[index] = { number: state.sheet.number, title: state.sheet.title, loopTag: state.sheet.loopTag, label: label ?? state.revision.label ?? '', newInPackage: label !== undefined, bytes }
+    finished++
   }
+  const lane = async () => {
+    while (next < total && failures.size === 0 && !run.signal.aborted) {
+      const index = next++
+      await renderOne(index).catch((error: unknown) => failures.set(index, error instanceof Error ? error : new Error(String(error))))
+    }
+  }
+  await Promise.all(Array.from({ length: Math.min(renderTabs, total) }, lane))
+  if (failures.size) throw failures.get(Math.min(...failures.keys()))!
+  if (run.signal.aborted) throw new Error('The render was stopped before it finished')
   await run.progress({ done: total, total, what: 'the cover sheet and the package page numbers' })
   const [client] = await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, found.organisationId))
   const recipients = await clientContactsOf(db, found.projectId)
