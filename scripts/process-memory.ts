@@ -56,9 +56,9 @@ function largestOf(pids: number[]): string {
   const sized = pids.map((pid) => {
     let name = String(pid)
     try {
-      const comm = readFileSync(`/proc/${pid}/cmdline`, 'utf8').split('\0')
-      const type = comm.find((arg) => arg.startsWith('--type='))
-      name = `${comm[0]!.split('/').pop()}${type ? ` ${type.slice(7)}` : ''}`
+      // Chromium rewrites its command line into one string: the process type is read from it by pattern.
+      const type = /--type=([\w-]+)/.exec(readFileSync(`/proc/${pid}/cmdline`, 'utf8'))
+      name = `${readFileSync(`/proc/${pid}/comm`, 'utf8').trim()}${type ? ` (${type[1]})` : ''}`
     } catch {
       // ended
     }
