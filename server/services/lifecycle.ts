@@ -9,7 +9,7 @@
 // acts only when the body's `version` is the stored one: an action on content the person did not see is refused
 // (409 with the stored sheet). A role or membership the person lacks, or a revision they prepared or edited (for
 // the checker's actions), is refused 403 and audited. An admin acts only through a role they hold on the project.
-import { and, asc, eq, isNotNull, sql } from 'drizzle-orm'
+import { and, asc, eq, inArray, isNotNull, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import {
   organisations,
@@ -678,7 +678,9 @@ async function answerOfIssue(db: Executor, packageIssueId: number): Promise<Pack
   const issued = await db
     .select({ sheetId: sheetRevisions.sheetId, revisionId: sheetRevisions.id, label: sheetRevisions.label })
     .from(sheetRevisions)
-    .where(and(sql`${sheetRevisions.id} = any(${row!.revisionIds})`, eq(sheetRevisions.issuedAt, row!.issuedAt)))
+    .where(and(inArray(sheetRevisions.id, row!.revisionIds), eq(sheetRevisions.issuedAt, row!.issuedAt)))
+  // In the package's order, as the issue listed them.
+  issued.sort((a, b) => row!.revisionIds.indexOf(a.revisionId) - row!.revisionIds.indexOf(b.revisionId))
   return { packageIssueId, label: row!.label ?? '', pages: row!.pages ?? 0, issued: issued.map((sheet) => ({ ...sheet, label: sheet.label! })), sha256: row!.sha256, fileName: row!.fileName }
 }
 

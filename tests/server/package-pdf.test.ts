@@ -6,7 +6,11 @@ import { execFileSync } from 'node:child_process'
 import { mkdtempSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
-import { beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, inject, it } from 'vitest'
+import postgres from 'postgres'
+import { drizzle } from 'drizzle-orm/postgres-js'
+import * as schema from '../../server/db/schema'
+import { runPackageIssue, type PackageIssueJob } from '../../server/services/lifecycle'
 import { demoPassword } from '../../scripts/demo-people'
 import { database, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
@@ -129,5 +133,23 @@ describe('a package issue', () => {
     const download = await cast.client.get(`/api/package-issues/${stored!.id}/pdf`)
     expect(download.status).toBe(200)
     expect(download.headers.get('content-disposition')).toContain(`NWD-214_${made.body.number}_rev-A.pdf`)
+
+    // The job run again (its runner died after the issue committed, before the job was marked done): it answers the
+    // issue it made, found by its job id, and renders and issues nothing more.
+    const own = postgres(inject('databaseUrl'), { max: 2, onnotice: () => {} })
+    try {
+      const [row] = await own`select payload from jobs where id = ${jobId}`
+      const nothingRenders = async (): Promise<never> => {
+        throw new Error('a retried job whose issue exists must not render')
+      }
+      const again = await runPackageIssue(drizzle(own, { schema }), row!.payload as PackageIssueJob, { jobId, attempt: 2, signal: new AbortController().signal, progress: async () => {} }, {
+        renderSheetPdf: nothingRenders,
+        renderPackagePdf: nothingRenders,
+      })
+      expect(again).toEqual(job.result)
+      expect((await own`select count(*)::int as n from package_issues where package_id = ${made.body.id}`)[0]!.n).toBe(1)
+    } finally {
+      await own.end()
+    }
   }, 150_000)
 })
