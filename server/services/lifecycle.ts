@@ -667,12 +667,6 @@ export async function requestPackageIssue(db: Database, packageId: number, body:
   return queued
 }
 
-/** What the package job renders with (server/services/issue-pdf.ts in the app; the tests may give their own). */
-export interface PackageRenderers {
-  renderSheetPdf: PdfRenderer['renderSheetPdf']
-  renderPackagePdf(packageId: number, facts: CoverFacts, parts: PackagePart[]): Promise<{ bytes: Buffer; sha256: string; pages: number; fileName: string }>
-}
-
 async function answerOfIssue(db: Executor, packageIssueId: number): Promise<PackageIssueAnswer> {
   const [row] = await db.select().from(packageIssues).where(eq(packageIssues.id, packageIssueId))
   const issued = await db
@@ -685,7 +679,7 @@ async function answerOfIssue(db: Executor, packageIssueId: number): Promise<Pack
 }
 
 /** The job of a package issue: render every sheet (progress "sheet k of n: NUMBER"), the cover, then issue at once. */
-export async function runPackageIssue(db: Database, job: PackageIssueJob, run: JobContext, renderers: PackageRenderers): Promise<PackageIssueAnswer> {
+export async function runPackageIssue(db: Database, job: PackageIssueJob, run: JobContext, renderers: PdfRenderer): Promise<PackageIssueAnswer> {
   const [done] = await db.select({ id: packageIssues.id }).from(packageIssues).where(eq(packageIssues.jobId, run.jobId))
   if (done) return answerOfIssue(db, done.id)
   const { packageId, context } = job
@@ -763,7 +757,7 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
     issuedAt: issuedAt.toISOString(),
     recipients: recipients.map((recipient) => ({ name: recipient.name, email: recipient.email })),
   }
-  let packagePdf: Awaited<ReturnType<PackageRenderers['renderPackagePdf']>>
+  let packagePdf: Awaited<ReturnType<PdfRenderer['renderPackagePdf']>>
   try {
     packagePdf = await renderers.renderPackagePdf(packageId, facts, parts)
   } catch (error) {
