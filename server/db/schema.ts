@@ -2,6 +2,7 @@
 // with `npx drizzle-kit generate`; the audit trail's append-only trigger is a custom migration.
 import { sql } from 'drizzle-orm'
 import {
+  bigint,
   bigserial,
   boolean,
   check,
@@ -480,9 +481,14 @@ export const packageIssues = pgTable(
     sha256: text('sha256').notNull(),
     fileName: text('file_name').notNull(),
     pages: integer('pages'),
+    /** The package's own revision label by the firm's rule over its earlier issues (null for issues made before labels). */
+    label: text('label'),
+    /** The job that made this issue (null for issues made before issuing became a job): a retried job finds its own issue. */
+    jobId: bigint('job_id', { mode: 'number' }).references(() => jobs.id),
   },
   (table) => [
     index('package_issues_package').on(table.packageId),
+    uniqueIndex('package_issues_job').on(table.jobId),
     check('package_issues_purpose_known', sql`${table.purpose} in ('information', 'review', 'implementation')`),
   ],
 )

@@ -33,6 +33,8 @@ export class RenderError extends Error {}
 const CHROMIUM = process.env.LOOPWRIGHT_CHROMIUM ?? '/usr/bin/chromium'
 /** Tabs printing at once: two cores on the reference machine, and each tab's layout is single-threaded. */
 const MAX_PAGES = Number(process.env.LOOPWRIGHT_PDF_PAGES ?? 2)
+/** How many renders one caller may usefully start at once (a package's sheets): the tabs there are. */
+export const renderTabs = MAX_PAGES
 /** Longest wait for the print view to say it is ready (fonts in, formulas fitted). */
 const READY_TIMEOUT_MS = 30_000
 
@@ -107,7 +109,7 @@ export function loopbackOrigin() {
 }
 
 /** Prints `path` of this app to PDF bytes, blocking every request that is not to this app. */
-async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
+export async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
   const origin = loopbackOrigin()
   return withTab(async () => {
     const browser = await warmBrowser()

@@ -59,3 +59,37 @@ export function sheetPdfFileName(sheetNumber: string, revision: { index: number;
 export function packagePdfFileName(projectNumber: string, packageNumber: string, label: string | null): string {
   return `${fileSafe(projectNumber)}_${fileSafe(packageNumber)}${label ? `_rev-${fileSafe(label)}` : '_preview'}.pdf`
 }
+
+/** One sheet in a package's index: where it starts and ends in the package PDF (pages counted from the cover's first). */
+export interface PrintCoverEntry {
+  number: string
+  title: string
+  loopTag: string
+  /** The revision label the sheet carries in this package (new with it, or already issued). */
+  label: string
+  /** True when the sheet is issued with this package; false when it is carried at an earlier issue. */
+  newInPackage: boolean
+  firstPage: number
+  lastPage: number
+}
+
+/** The cover sheet (transmittal) of a package, as the package print view (/packages/[id]/print) draws it. */
+export interface PrintCover {
+  firm: { name: string; paperSize: 'A4' | 'Letter' | 'A3' }
+  projectNumber: string
+  projectName: string
+  clientName: string
+  packageNumber: string
+  packageTitle: string
+  /** The package's revision label of this issue. */
+  label: string
+  purpose: string
+  issuedBy: string
+  /** ISO 8601, UTC. */
+  issuedAt: string
+  recipients: Array<{ name: string; email: string }>
+  index: PrintCoverEntry[]
+  /** Pages of the cover itself, and of the whole package. */
+  coverPages: number
+  totalPages: number
+}

@@ -207,3 +207,24 @@ export async function newPerson(
   if (accepted.status !== 204) throw new Error(`accepting answered ${accepted.status}`)
   return { id: invited.body.id, email, password, name }
 }
+
+/** A background job as GET /api/jobs/[id] shows it once it has finished (done or failed). */
+export async function finishedJob(client: Client, jobId: number, timeoutMs = 90_000): Promise<Answer> {
+  const deadline = Date.now() + timeoutMs
+  for (;;) {
+    const answer = await client.get(`/api/jobs/${jobId}`)
+    if (answer.status !== 200 || answer.body.status === 'done' || answer.body.status === 'failed') return answer
+    if (Date.now() > deadline) throw new Error(`job ${jobId} had not finished after ${timeoutMs} ms: ${JSON.stringify(answer.body)}`)
+    await new Promise((resolve) => setTimeout(resolve, 100))
+  }
+}
+
+/**
+ * POST /api/packages/[id]/issue and, when it is queued (202), the job it started waited for: the answer of the
+ * request (a refusal as it came) and, once queued, the finished job (its `result` the package issue).
+ */
+export async function issuePackageAndWait(client: Client, packageId: number, body: unknown): Promise<{ request: Answer; job: Answer | null }> {
+  const request = await client.post(`/api/packages/${packageId}/issue`, body)
+  if (request.status !== 202) return { request, job: null }
+  return { request, job: await finishedJob(client, request.body.jobId) }
+}
