@@ -65,7 +65,7 @@ async function launch() {
     // A browser that died (or was closed) is launched afresh by the next render, with new tabs.
     browserStarting = null
     forgetTabs()
-    void rm(userDataDir, { recursive: true, force: true })
+    rm(userDataDir, { recursive: true, force: true, maxRetries: 3 }).catch(() => {})
   })
   return { browser, userDataDir }
 }
@@ -183,13 +183,17 @@ export function loopbackOrigin() {
   return `http://127.0.0.1:${process.env.NITRO_PORT ?? process.env.PORT ?? '3000'}`
 }
 
+/** What a print in a tab answers: the PDF, and the requests of the page that were refused for leaving the app. */
+interface Printed {
+  bytes: Uint8Array
+  blockedRequests: string[]
+}
+
 /**
- * Prints `path` of this app (a print view, `?render=<token>`) to PDF bytes in a warm tab, blocking every request
- * that is not to this app. Exported for the tests, which print a page that tries to reach outside.
+ * Opens what `open` loads in a warm tab, waits for `readySelector`, and prints it, with every request that is not
+ * to this app aborted and listed. `leavesApp`: `open` leaves the app's print view, so the next render loads it again.
  */
-export async function printPage(path: string, readySelector = '.lw-print[data-print-ready="true"]'): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
-  const origin = loopbackOrigin()
-  const token = new URL(path, origin).searchParams.get('render')
+function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, leavesApp: boolean): Promise<Printed> {
   return withTab(async (tab) => {
     const { page } = tab
     tab.blocked = []
@@ -198,24 +202,46 @@ export async function printPage(path: string, readySelector = '.lw-print[data-pr
     })
     refused.catch(() => {})
     try {
-      // Run in the page (the server's types know no `window`): the print view's own way to the next render.
-      const viaRouter = tab.warm && token !== null && (await page.evaluate('typeof window.loopwrightPrint === "function"'))
-      if (viaRouter) {
-        await page.evaluate(`void window.loopwrightPrint(${JSON.stringify(path)})`)
-      } else {
-        const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
-        if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
-      }
-      // The view of this render (its token: base64url and a dot, nothing to escape), not the one the tab showed before.
-      const selector = token === null ? readySelector : `${readySelector}[data-render="${token}"]`
-      await Promise.race([page.waitForSelector(selector, { timeout: READY_TIMEOUT_MS }), refused])
+      if (leavesApp) tab.warm = false
+      await open(tab)
+      await Promise.race([page.waitForSelector(readySelector, { timeout: READY_TIMEOUT_MS }), refused])
       const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, timeout: READY_TIMEOUT_MS })
-      tab.warm = token !== null
+      tab.warm = !leavesApp
       return { bytes, blockedRequests: [...tab.blocked] }
     } finally {
       tab.onRefused = null
     }
   })
+}
+
+/** Prints the print view at `path` of this app (`/sheets/[id]/print?render=<token>`) in a warm tab. */
+async function printPage(path: string): Promise<Printed> {
+  const origin = loopbackOrigin()
+  const token = new URL(path, origin).searchParams.get('render')
+  if (!token) throw new RenderError('A print needs a render token')
+  // The view of this render (its token: base64url and a dot, nothing to escape), not the one the tab showed before.
+  const ready = `.lw-print[data-print-ready="true"][data-render="${token}"]`
+  return printInTab(
+    async ({ page, warm }) => {
+      // Run in the page (the server's types know no `window`): the print view's own way to the next render.
+      if (warm && (await page.evaluate('typeof window.loopwrightPrint === "function"'))) {
+        await page.evaluate(`void window.loopwrightPrint(${JSON.stringify(path)})`)
+        return
+      }
+      const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
+      if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
+    },
+    ready,
+    false,
+  )
+}
+
+/**
+ * For the tests: `html` printed in a render tab under the same blocking as a sheet, ready once `readySelector`
+ * shows; it answers which requests were refused. Proves that a page reaching outside reaches nothing.
+ */
+export function printHtmlForTest(html: string, readySelector: string): Promise<Printed> {
+  return printInTab(({ page }) => page.setContent(html, { waitUntil: 'load', timeout: READY_TIMEOUT_MS }), readySelector, true)
 }
 
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
