@@ -63,9 +63,10 @@ function sumKb(pids: number[], file: 'status' | 'smaps_rollup', field: string): 
 /** What a process of the tree is: the app, or Chromium's browser process, or the --type= of one of its others. */
 function processKind(pid: number): string {
   try {
-    const args = readFileSync(`/proc/${pid}/cmdline`, 'utf8').split('\0')
-    if (!args[0]?.includes('chromium')) return 'app'
-    return args.find((arg) => arg.startsWith('--type='))?.slice(7) ?? 'chromium'
+    // Chromium rewrites its command line as one string (its process title), so --type= is looked for in the whole.
+    const line = readFileSync(`/proc/${pid}/cmdline`, 'utf8')
+    if (!line.includes('chromium')) return 'app'
+    return /--type=([a-z-]+)/.exec(line)?.[1] ?? 'chromium'
   } catch {
     return 'ended'
   }

@@ -7,7 +7,7 @@ import { sha256Hex } from '../utils/content-hash'
 import { mkdtemp, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
-import puppeteer, { type Browser, type Page } from 'puppeteer-core'
+import puppeteer, { type Browser, type BrowserContext, type Page } from 'puppeteer-core'
 import { PDFDocument } from 'pdf-lib'
 import { useDb } from '../utils/db'
 import { makeRenderToken } from '../utils/render-token'
@@ -58,11 +58,12 @@ async function launch() {
       '--no-default-browser-check',
       // No zygote processes and no spare renderer kept waiting: fewer processes, less memory (scripts/bench-pdf.ts).
       '--no-zygote',
-      '--in-process-gpu',
       '--disable-features=SpareRendererForSitePerProcess,AudioServiceOutOfProcess',
-      '--enable-features=NetworkServiceInProcess',
     ],
   })
+  // The blank tab Chromium opens at launch holds a renderer process of its own (seen in the bench's breakdown):
+  // renders use tabs of their own context, so it is closed.
+  for (const blank of await browser.pages()) await blank.close().catch(() => {})
   browser.on('disconnected', () => {
     // A browser that died (or was closed) is launched afresh by the next render, with new tabs.
     browserStarting = null
@@ -113,18 +114,22 @@ interface Tab {
 const tabs: Tab[] = []
 const idle: Tab[] = []
 const MAX_RENDERS_PER_TAB = 200
+let context: Promise<BrowserContext> | null = null
 function forgetTabs() {
   tabs.length = 0
   idle.length = 0
+  context = null
 }
 
 async function openTab(browser: Browser, origin: string): Promise<Tab> {
-  // The browser's own context (its profile is the temporary userDataDir of this launch; renders carry no session),
-  // and its first, blank tab taken for the first render rather than left holding a renderer process of its own.
-  // Each further tab in a window of its own: a background tab of a shared window gets no animation frames, and the
-  // print view waits for two before it says it is ready.
-  const unused = (await browser.pages()).find((candidate) => candidate.url() === 'about:blank' && !tabs.some((tab) => tab.page === candidate))
-  const page = unused ?? (await browser.newPage({ type: 'window' }))
+  context ??= browser.createBrowserContext()
+  const shared = await context.catch((error: unknown) => {
+    context = null
+    throw error
+  })
+  // Each tab in a window of its own: a background tab of a shared window gets no animation frames, and the print
+  // view waits for two before it says it is ready.
+  const page = await shared.newPage({ type: 'window' })
   const tab: Tab = { page, renders: 0, warm: false, blocked: [], onRefused: null }
   await page.setRequestInterception(true)
   page.on('request', (request) => {
