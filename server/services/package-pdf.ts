@@ -7,7 +7,7 @@ import { PDFDocument, rgb } from 'pdf-lib'
 import { packagePdfFileName, type PrintCover, type PrintCoverEntry } from '../../shared/schemas/print'
 import { sha256Hex } from '../utils/content-hash'
 import { dropCoverToken, makeCoverToken } from '../utils/render-token'
-import { printPage, RenderError, type RenderedPdf } from './pdf-render'
+import { printAppPage, RenderError, type RenderedPdf } from './pdf-render'
 
 /** One sheet of the package, in the package's order, with its PDF (just rendered, or stored at an earlier issue). */
 export interface PackagePart extends Omit<PrintCoverEntry, 'firstPage' | 'lastPage'> {
@@ -29,7 +29,7 @@ function indexOf(parts: Array<PackagePart & { pages: number }>, coverPages: numb
 async function printCover(packageId: number, cover: PrintCover, blocked: string[]): Promise<PDFDocument> {
   const token = makeCoverToken(cover)
   try {
-    const printed = await printPage(`/packages/${packageId}/print?render=${encodeURIComponent(token)}`)
+    const printed = await printAppPage(`/packages/${packageId}/print?render=${encodeURIComponent(token)}`)
     blocked.push(...printed.blockedRequests)
     return await PDFDocument.load(printed.bytes)
   } finally {
