@@ -96,7 +96,14 @@ export default defineNuxtConfig({
     '/api/sheets/*/attachments': { security: { requestSizeLimiter: false } },
   },
   // The loop templates engineers start from, bundled into the server (resolved from server/, hence ../).
-  nitro: { serverAssets: [{ baseName: 'sheets', dir: '../sheets' }] },
+  // The Noto face that stamps package page numbers (server/services/package-pdf.ts), the app's own @fontsource file:
+  // WOFF, because @pdf-lib/fontkit's subsetter fails on the WOFF2 file (measured: "Index out of range").
+  nitro: {
+    serverAssets: [
+      { baseName: 'sheets', dir: '../sheets' },
+      { baseName: 'print-fonts', dir: '../node_modules/@fontsource/noto-sans/files', pattern: 'noto-sans-latin-400-normal.woff' },
+    ],
+  },
   hooks: {
     // The calculation engine runs in worker threads (server/utils/calc-pool.ts),
     // which start from a file of their own: bundle it after every server build.

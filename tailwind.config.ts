@@ -58,9 +58,9 @@ export default {
         },
       },
       fontFamily: {
-        sans: ['"Noto Sans"', '"Noto Sans Math"', 'system-ui', 'sans-serif'],
+        sans: ['"Noto Sans"', '"Noto Sans Math"', '"Noto Serif"', 'system-ui', 'sans-serif'],
         serif: ['"Noto Serif"', '"Noto Sans Math"', 'Georgia', 'serif'],
-        mono: ['"Noto Sans Mono"', 'ui-monospace', 'monospace'],
+        mono: ['"Noto Sans Mono"', '"Noto Sans Math"', '"Noto Serif"', 'ui-monospace', 'monospace'],
       },
       // A 1.2 ratio on a 15 px body: small enough for dense tables, calm for reading.
       fontSize: {

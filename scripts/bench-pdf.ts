@@ -60,6 +60,18 @@ function sumKb(pids: number[], file: 'status' | 'smaps_rollup', field: string): 
   return total
 }
 
+/** What a process of the tree is: the app, or Chromium's browser process, or the --type= of one of its others. */
+function processKind(pid: number): string {
+  try {
+    // Chromium rewrites its command line as one string (its process title), so --type= is looked for in the whole.
+    const line = readFileSync(`/proc/${pid}/cmdline`, 'utf8')
+    if (!line.includes('chromium')) return 'app'
+    return /--type=([a-z-]+)/.exec(line)?.[1] ?? 'chromium'
+  } catch {
+    return 'ended'
+  }
+}
+
 async function main() {
   const running = await start(instanceOf('bench'))
   const base = `http://127.0.0.1:${running.instance.appPort}`
@@ -67,12 +79,14 @@ async function main() {
   let peakRssKb = 0
   let peakPssKb = 0
   let peakProcesses = 0
+  let peakBreakdown = ''
   const sampler = setInterval(() => {
     const tree = processTree(appPid)
     const rss = sumKb(tree, 'status', 'VmRSS')
     if (rss > peakRssKb) {
       peakRssKb = rss
       peakProcesses = tree.length
+      peakBreakdown = tree.map((pid) => `${processKind(pid)} ${(sumKb([pid], 'status', 'VmRSS') / 1024).toFixed(0)}`).join(', ')
     }
     peakPssKb = Math.max(peakPssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
   }, 25)
@@ -106,6 +120,7 @@ async function main() {
     console.log(
       `  peak memory of the app and its browser (${peakProcesses} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(peakPssKb / 1024).toFixed(0)} MiB`,
     )
+    console.log(`  at the peak, RSS by process (MiB): ${peakBreakdown}`)
     console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
   } finally {
     clearInterval(sampler)

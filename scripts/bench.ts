@@ -187,4 +187,8 @@ else console.log('\nSheet editor benchmark skipped: the app is not built (run sc
 if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
   spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-pdf.ts', import.meta.url))], { stdio: 'inherit' })
 else console.log('\nPDF benchmark skipped: the app is not built (run scripts/setup first).')
+// A 20-sheet package issued as a job: total time and the app's peak memory with its browser (scripts/bench-package.ts).
+if (existsSync(fileURLToPath(new URL('../.output/server/index.mjs', import.meta.url))))
+  spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(new URL('./bench-package.ts', import.meta.url))], { stdio: 'inherit' })
+else console.log('\nPackage benchmark skipped: the app is not built (run scripts/setup first).')
 console.log(`\n${failed.length === 0 ? 'All targets met.' : `${failed.length} target(s) not met: ${failed.join('; ')}.`} (The bench exits 0 either way: it reports, it does not gate.)`)

@@ -178,6 +178,38 @@ export function useSheetAutosave(options: {
     })
   }
 
+  /**
+   * The sheet as read again after a transition: the next revision after revise starts at version 1, so the
+   * version and the saved form are taken from it (a save over the old revision's version would be refused).
+   */
+  function adopt(fresh: SheetDetail) {
+    clearTimeout(timer)
+    detail.value = fresh
+    version.value = fresh.revision.version
+    saved.value = snapshot(formFromDetail(fresh))
+    conflict.value = null
+    problem.value = null
+    options.replaceForm(formFromDetail(fresh))
+  }
+
+  /**
+   * Saves what is typed now, before a lifecycle action names the version: a submit must not go out with the
+   * version before the last keystrokes, leaving them unsaved behind a revision in check. True when all is saved.
+   */
+  async function flush(): Promise<boolean> {
+    if (!canEdit.value) return true
+    if (saving.value) await new Promise<void>((resolve) => {
+      const stop = watch(saving, (now) => {
+        if (!now) {
+          stop()
+          resolve()
+        }
+      })
+    })
+    if (dirty.value) await save()
+    return !dirty.value
+  }
+
   watch(current, () => {
     if (!canEdit.value) return
     keepLocally()
@@ -217,5 +249,5 @@ export function useSheetAutosave(options: {
     if (dirty.value && canEdit.value && !window.confirm('This sheet has edits the server does not have yet. Leave anyway? They stay in this browser and come back when you open the sheet again.')) return false
   })
 
-  return { state, version, problem, conflict, retryIn, dirty, save, resolve }
+  return { state, version, problem, conflict, retryIn, dirty, save, resolve, adopt, flush }
 }

@@ -28,7 +28,8 @@ export function cssString(text: string) {
 export function printPageCss(sheet: SheetDetail, paper: PrintPaper) {
   const revision = sheet.revision
   const left = cssString(`${sheet.firm.name} · ${sheet.number} · revision ${revisionWords(revision.index, revision.label)} · ${sheetStatusNames[revision.status]}`)
-  const margin = `font-family: "Noto Sans", sans-serif; font-size: 7.5pt; color: #23494e;`
+  // The sans stack of tailwind.config.ts: a sign Noto Sans lacks comes from a shipped face, never a system one.
+  const margin = `font-family: "Noto Sans", "Noto Sans Math", "Noto Serif", sans-serif; font-size: 7.5pt; color: #23494e;`
   return `@page { size: ${paper.cssSize} portrait; margin: 12mm ${SIDE_MARGIN_MM}mm 14mm ${SIDE_MARGIN_MM}mm;
   @bottom-left { content: ${left}; ${margin} }
   @bottom-right { content: "Page " counter(page) " of " counter(pages); ${margin} }

@@ -2,6 +2,7 @@
 // with `npx drizzle-kit generate`; the audit trail's append-only trigger is a custom migration.
 import { sql } from 'drizzle-orm'
 import {
+  bigint,
   bigserial,
   boolean,
   check,
@@ -480,9 +481,14 @@ export const packageIssues = pgTable(
     sha256: text('sha256').notNull(),
     fileName: text('file_name').notNull(),
     pages: integer('pages'),
+    /** The package's own revision label by the firm's rule over its earlier issues (null for issues made before labels). */
+    label: text('label'),
+    /** The job that made this issue (null for issues made before issuing became a job): a retried job finds its own issue. */
+    jobId: bigint('job_id', { mode: 'number' }).references(() => jobs.id),
   },
   (table) => [
     index('package_issues_package').on(table.packageId),
+    uniqueIndex('package_issues_job').on(table.jobId),
     check('package_issues_purpose_known', sql`${table.purpose} in ('information', 'review', 'implementation')`),
   ],
 )
@@ -563,7 +569,8 @@ export const attachments = pgTable(
     sha256: text('sha256').notNull(),
     /** The media type found from the content: application/pdf, image/png, image/jpeg, text/csv, text/plain. */
     type: text('type').notNull(),
-    objectKey: text('object_key').notNull().unique(),
+    /** The stored object; a revision started from this one carries the same key (objects are never rewritten). */
+    objectKey: text('object_key').notNull(),
     uploadedBy: integer('uploaded_by')
       .notNull()
       .references(() => people.id),
@@ -571,6 +578,7 @@ export const attachments = pgTable(
   },
   (table) => [
     index('attachments_revision').on(table.revisionId),
+    index('attachments_object_key').on(table.objectKey),
     check('attachments_size_positive', sql`${table.size} > 0`),
     check('attachments_sha256_hex', sql`${table.sha256} ~ '^[0-9a-f]{64}$'`),
     check('attachments_type_known', sql`${table.type} in ('application/pdf', 'image/png', 'image/jpeg', 'text/csv', 'text/plain')`),

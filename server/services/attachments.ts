@@ -308,6 +308,8 @@ export async function deleteAttachment(db: Database, attachmentId: number, viewe
       await tx.delete(attachments).where(eq(attachments.id, attachmentId))
     },
   )
-  await store.remove(row.objectKey).catch(() => undefined)
+  // A revision started from another carries its files under the same keys: the object goes with its last row.
+  const [stillNamed] = await db.select({ id: attachments.id }).from(attachments).where(eq(attachments.objectKey, row.objectKey)).limit(1)
+  if (!stillNamed) await store.remove(row.objectKey).catch(() => undefined)
   return { id: attachmentId }
 }

@@ -1,30 +1,49 @@
 // One-time invitation links: a random token e-mailed to the person; only its SHA-256 is stored.
 // The link works once and expires after 7 days.
-import { createHash, randomBytes } from 'node:crypto'
 import { and, eq, isNull, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import { invitations, people } from '../db/schema'
 import type { Database } from '../utils/db'
+import { newSecretToken, tokenHash } from '../utils/token-hash'
 import type { AuditContext } from './audit-trail'
 import { audited, type Executor } from './audited'
+import { queueMail } from './outbox'
 import { setPassword } from './passwords'
 
 export const invitationDays = 7
 
-function hashToken(token: string): string {
-  return createHash('sha256').update(token).digest('hex')
-}
-
-/** Returns the token to put in the link; it is not stored. */
-export async function createInvitation(db: Executor, personId: number, invitedBy: number | null): Promise<string> {
-  const token = randomBytes(32).toString('base64url')
-  await db.insert(invitations).values({
-    personId,
-    tokenHash: hashToken(token),
+/**
+ * Writes the invitation and its e-mail (the outbox, server/services/outbox.ts) through `tx`, the transaction that
+ * creates the person: the link goes out if and only if the person is created. The token is in the mail alone.
+ */
+export async function createInvitation(
+  tx: Executor,
+  person: { id: number; name: string; email: string },
+  invitedBy: number | null,
+  siteUrl: string,
+): Promise<void> {
+  const token = newSecretToken()
+  await tx.insert(invitations).values({
+    personId: person.id,
+    tokenHash: tokenHash(token),
     invitedBy,
     expiresAt: sql`now() + make_interval(days => ${invitationDays})`,
   })
-  return token
+  await queueMail(tx, {
+    kind: 'person.invited',
+    to: person.email,
+    subject: 'Your Loopwright account: choose a password',
+    text: [
+      `Hello ${person.name},`,
+      '',
+      'An administrator has opened a Loopwright account for you.',
+      `Choose your password with this link. It works once and expires in ${invitationDays} days:`,
+      '',
+      `${siteUrl.replace(/\/$/, '')}/invitation/${token}`,
+      '',
+      'If you did not expect this message, you can ignore it.',
+    ].join('\n'),
+  })
 }
 
 async function openInvitation(db: Database, token: string) {
@@ -40,7 +59,7 @@ async function openInvitation(db: Database, token: string) {
     })
     .from(invitations)
     .innerJoin(people, eq(people.id, invitations.personId))
-    .where(eq(invitations.tokenHash, hashToken(token)))
+    .where(eq(invitations.tokenHash, tokenHash(token)))
   if (!row || row.usedAt || !row.active) throw createError({ statusCode: 404, statusMessage: 'This invitation link is unknown or already used' })
   if (row.expired) throw createError({ statusCode: 410, statusMessage: 'This invitation link has expired; ask an administrator for a new one' })
   return row

@@ -9,9 +9,10 @@
 // acts only when the body's `version` is the stored one: an action on content the person did not see is refused
 // (409 with the stored sheet). A role or membership the person lacks, or a revision they prepared or edited (for
 // the checker's actions), is refused 403 and audited. An admin acts only through a role they hold on the project.
-import { and, asc, eq, isNotNull, sql } from 'drizzle-orm'
+import { and, asc, eq, inArray, isNotNull, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import {
+  organisations,
   packageIssues,
   packages,
   people,
@@ -37,6 +38,7 @@ import {
   type LifecycleView,
   type PackageIssueAnswer,
   type PackageIssueBody,
+  type PackageIssueQueued,
   type Permission,
   type ReturnBody,
   type SignatureMeaning,
@@ -52,6 +54,9 @@ import { readFirmSettings } from './firm'
 import { queueMail, type QueuedMail } from './outbox'
 import { refused, viewSheet, type Refused } from './sheets'
 import type { PdfRenderer } from './issue-pdf'
+import { enqueueJob, JobFailure, type JobContext } from './jobs'
+import type { CoverFacts, PackagePart } from './package-pdf'
+import { renderTabs } from './pdf-render'
 
 // ---------------------------------------------------------------------------------------------------------------
 // Who may do what
@@ -155,7 +160,7 @@ async function projectRolesOf(db: Executor, projectId: number, personId: number)
 /** The sheet and its current revision; under the sheet's and the revision's row locks when `lock` (in a transaction). */
 async function loadState(db: Executor, sheetId: number, lock: boolean) {
   const sheetQuery = db
-    .select({ id: sheets.id, projectId: sheets.projectId, number: sheets.number, title: sheets.title, currentIndex: sheets.currentRevisionIndex })
+    .select({ id: sheets.id, projectId: sheets.projectId, number: sheets.number, title: sheets.title, loopTag: sheets.loopTag, currentIndex: sheets.currentRevisionIndex })
     .from(sheets)
     .where(eq(sheets.id, sheetId))
   const [sheet] = lock ? await sheetQuery.for('update') : await sheetQuery
@@ -266,8 +271,11 @@ export interface Links {
   siteUrl: string
 }
 const sheetLink = (links: Links, sheetId: number) => `${links.siteUrl.replace(/\/$/, '')}/sheets/${sheetId}`
-/** The issued document: the PDF route of the pdf branch (GET /api/revisions/[id]/pdf), reached after signing in. */
-const documentLink = (links: Links, revisionId: number) => `${links.siteUrl.replace(/\/$/, '')}/api/revisions/${revisionId}/pdf`
+/**
+ * The issued document in the client's portal (their home page, the revision marked): a link to the PDF route itself
+ * answered a signed-out reader with a bare 401, where this page sends them to sign in first and back here after.
+ */
+const documentLink = (links: Links, revisionId: number) => `${links.siteUrl.replace(/\/$/, '')}/?revision=${revisionId}`
 
 async function checkersOf(db: Executor, projectId: number, except: number[]) {
   const rows = await db
@@ -579,6 +587,12 @@ export async function reviseSheet(db: Database, sheetId: number, body: VersionBo
         })
         .returning({ id: sheetRevisions.id })
       await tx.insert(revisionEditors).values({ revisionId: created!.id, personId: viewer.id })
+      // The references' files go with the content: the new draft lists the same stored objects (never rewritten),
+      // and removing one from the draft leaves the object while an earlier revision still names it.
+      await tx.execute(sql`
+        insert into attachments (revision_id, name, size, sha256, type, object_key, uploaded_by, uploaded_at)
+        select ${created!.id}, name, size, sha256, type, object_key, uploaded_by, uploaded_at
+        from attachments where revision_id = ${state.revision.id} order by id`)
       await recordAuditEvent(tx, context, {
         action: 'sheet.revised',
         subjectType: 'sheet',
@@ -592,92 +606,212 @@ export async function reviseSheet(db: Database, sheetId: number, body: VersionBo
 
 // ---------------------------------------------------------------------------------------------------------------
 // Packages
+//
+// POST /api/packages/[id]/issue answers at once: who may issue, the password and the package's state are checked
+// in the request (403/409 with the reason), and a job is queued in the same transaction as its audit row. The job
+// (runPackageIssue, registered by server/plugins/package-jobs.ts) renders every sheet and the cover, then issues
+// everything in ONE transaction that checks the states and versions again: every sheet, or nothing. A job retried
+// after its runner died renders afresh; one whose issue had committed finds it by its job id and answers it.
 
-/**
- * POST /api/packages/[id]/issue: every sheet of the package issued in one transaction, or none. Each sheet's current
- * revision must be approved, or already issued (then carried into the package at that revision unchanged); at
- * least one must be new. The body names every sheet with the version the engineer saw.
- */
-export async function issuePackage(db: Database, packageId: number, body: PackageIssueBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing, renderer: PdfRenderer): Promise<PackageIssueAnswer | Refused> {
-  const [found] = await db.select({ id: packages.id, projectId: packages.projectId, number: packages.number, title: packages.title }).from(packages).where(eq(packages.id, packageId))
+export const PACKAGE_ISSUE_JOB = 'package.issue'
+
+export interface PackageIssueJob {
+  packageId: number
+  purpose: IssuePurpose
+  issuerId: number
+  sheets: PackageIssueBody['sheets']
+  context: AuditContext
+  siteUrl: string
+}
+
+/** The package's sheets in its order, with their states (locked in id order when `lock`), or the reason none can issue. */
+async function packagePlan(executor: Executor, packageId: number, body: Pick<PackageIssueBody, 'sheets' | 'purpose'>, person: PersonOnProject, lock: boolean) {
+  const members = await executor.select({ id: sheets.id }).from(sheets).where(eq(sheets.packageId, packageId)).orderBy(asc(sql`length(${sheets.number})`), asc(sheets.number))
+  const named = new Map(body.sheets.map((sheet) => [sheet.sheetId, sheet.version]))
+  if (members.length !== named.size || members.some((member) => !named.has(member.id))) return { problem: 'The package’s sheets changed since you loaded it' } as const
+  const states: State[] = []
+  // Sheets locked in id order, so two issues of overlapping sheets take their locks in one order.
+  for (const id of [...members.map((member) => member.id)].sort((a, b) => a - b)) states.push((await loadState(executor, id, lock))!)
+  const ordered = members.map((member) => states.find((state) => state.sheet.id === member.id)!)
+  const stale = ordered.filter((state) => state.revision.version !== named.get(state.sheet.id)).map((state) => state.sheet.number)
+  if (stale.length) return { problem: `Changed since you loaded them: ${stale.join(', ')}` } as const
+  const waiting = ordered.filter((state) => !canDo(person, state.facts).issue.allowed && state.facts.status !== 'issued')
+  if (waiting.length) return { problem: `Every sheet must be approved first: ${waiting.map((state) => `${state.sheet.number} (${state.facts.status})`).join(', ')}` } as const
+  const fresh = ordered.filter((state) => state.facts.status === 'approved')
+  if (fresh.length === 0) return { problem: 'Every sheet of this package is already issued at its current revision' } as const
+  const firm = await readFirmSettings(executor)
+  const labels = new Map<number, string>()
+  for (const state of fresh) labels.set(state.sheet.id, nextRevisionLabel(firm.revisionLabelRule, await earlierLabels(executor, state.sheet.id), body.purpose))
+  const earlierIssues = await executor.select({ label: packageIssues.label }).from(packageIssues).where(and(eq(packageIssues.packageId, packageId), isNotNull(packageIssues.label)))
+  const packageLabel = nextRevisionLabel(firm.revisionLabelRule, earlierIssues.map((row) => ({ label: row.label! })), body.purpose)
+  return { ordered, fresh, labels, packageLabel, firm } as const
+}
+
+async function packageConflict(db: Database, context: AuditContext, packageId: number, reason: string): Promise<never> {
+  await recordAuditEvent(db, context, { action: 'package.issue-refused', subjectType: 'package', subjectId: packageId, status: 409, detail: { reason } })
+  throw createError({ statusCode: 409, statusMessage: reason, data: { reason } })
+}
+
+/** POST /api/packages/[id]/issue: the checks a person is answered at once, then the job that renders and issues. */
+export async function requestPackageIssue(db: Database, packageId: number, body: PackageIssueBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing): Promise<PackageIssueQueued | Refused> {
+  const [found] = await db.select({ id: packages.id, projectId: packages.projectId }).from(packages).where(eq(packages.id, packageId))
   if (!found) throw createError({ statusCode: 404, statusMessage: 'No such package' })
-  const projectRoles = await projectRolesOf(db, found.projectId, viewer.id)
-  const person = { ...viewer, projectRoles }
+  const person = { ...viewer, projectRoles: await projectRolesOf(db, found.projectId, viewer.id) }
   if (!holds(person, 'engineer')) return refused('Only an engineer of this project issues its packages', { packageId })
   const wrong = await checkPassword(db, viewer, body.password, signing)
   if (wrong) return { ...wrong, detail: { ...wrong.detail, packageId, action: 'issue' } }
+  const plan = await packagePlan(db, packageId, body, person, false)
+  if ('problem' in plan) return packageConflict(db, context, packageId, plan.problem!)
+  const payload: PackageIssueJob = { packageId, purpose: body.purpose, issuerId: viewer.id, sheets: body.sheets, context, siteUrl: links.siteUrl }
+  const queued = await db.transaction(async (tx) => {
+    // Under the package's row lock, so of two requests at once the second sees the first one's job.
+    await tx.select({ id: packages.id }).from(packages).where(eq(packages.id, packageId)).for('update')
+    const [busy] = await tx.execute<{ id: number }>(sql`select id from jobs where kind = ${PACKAGE_ISSUE_JOB} and status in ('waiting', 'running') and (payload->>'packageId')::int = ${packageId} limit 1`)
+    if (busy) return { problem: `This package is being issued already (job ${busy.id})` }
+    const jobId = await enqueueJob(tx, PACKAGE_ISSUE_JOB, payload, viewer.id)
+    await recordAuditEvent(tx, context, { action: 'package.issue-requested', subjectType: 'package', subjectId: packageId, detail: { jobId, purpose: body.purpose, sheets: body.sheets } })
+    return { jobId }
+  })
+  if ('problem' in queued) return packageConflict(db, context, packageId, queued.problem!)
+  return queued
+}
 
-  const packageConflict = async (reason: string, detail: Record<string, unknown> = {}): Promise<never> => {
-    await recordAuditEvent(db, context, { action: 'package.issue-refused', subjectType: 'package', subjectId: packageId, status: 409, detail: { reason, ...detail } })
-    throw createError({ statusCode: 409, statusMessage: reason, data: { reason, ...detail } })
+async function answerOfIssue(db: Executor, packageIssueId: number): Promise<PackageIssueAnswer> {
+  const [row] = await db.select().from(packageIssues).where(eq(packageIssues.id, packageIssueId))
+  const issued = await db
+    .select({ sheetId: sheetRevisions.sheetId, revisionId: sheetRevisions.id, label: sheetRevisions.label })
+    .from(sheetRevisions)
+    .where(and(inArray(sheetRevisions.id, row!.revisionIds), eq(sheetRevisions.issuedAt, row!.issuedAt)))
+  // In the package's order, as the issue listed them.
+  issued.sort((a, b) => row!.revisionIds.indexOf(a.revisionId) - row!.revisionIds.indexOf(b.revisionId))
+  return { packageIssueId, label: row!.label ?? '', pages: row!.pages ?? 0, issued: issued.map((sheet) => ({ ...sheet, label: sheet.label! })), sha256: row!.sha256, fileName: row!.fileName }
+}
+
+/** The job of a package issue: render every sheet (progress "sheet k of n: NUMBER"), the cover, then issue at once. */
+export async function runPackageIssue(db: Database, job: PackageIssueJob, run: JobContext, renderers: PdfRenderer): Promise<PackageIssueAnswer> {
+  const [done] = await db.select({ id: packageIssues.id }).from(packageIssues).where(eq(packageIssues.jobId, run.jobId))
+  if (done) return answerOfIssue(db, done.id)
+  const { packageId, context } = job
+  const [found] = await db
+    .select({ projectId: packages.projectId, number: packages.number, title: packages.title, projectNumber: projects.number, projectName: projects.name, organisationId: projects.organisationId })
+    .from(packages)
+    .innerJoin(projects, eq(projects.id, packages.projectId))
+    .where(eq(packages.id, packageId))
+  if (!found) throw new JobFailure(`There is no package ${packageId}`, false)
+  const [issuer] = await db.select({ roles: people.roles, active: people.active, name: people.name }).from(people).where(eq(people.id, job.issuerId))
+  if (!issuer?.active) throw new JobFailure('The person who asked for this issue can no longer issue', false)
+  const viewer: Viewer = { id: job.issuerId, roles: issuer.roles as Role[] }
+  const person = { ...viewer, projectRoles: await projectRolesOf(db, found.projectId, viewer.id) }
+  const refuse = async (reason: string): Promise<never> => {
+    await recordAuditEvent(db, context, { action: 'package.issue-refused', subjectType: 'package', subjectId: packageId, status: 409, detail: { reason, jobId: run.jobId } })
+    throw new JobFailure(reason, false)
   }
+  if (!holds(person, 'engineer')) return refuse('Only an engineer of this project issues its packages')
+  const first = await packagePlan(db, packageId, job, person, false)
+  if ('problem' in first) return refuse(first.problem!)
 
-  // Read, decide the labels and render outside the locks; everything is checked again under them.
-  const plan = async (executor: Executor, lock: boolean) => {
-    const members = await executor.select({ id: sheets.id }).from(sheets).where(eq(sheets.packageId, packageId)).orderBy(asc(sql`length(${sheets.number})`), asc(sheets.number))
-    const named = new Map(body.sheets.map((sheet) => [sheet.sheetId, sheet.version]))
-    if (members.length !== named.size || members.some((member) => !named.has(member.id))) return { problem: 'The package’s sheets changed since you loaded it' } as const
-    const states: State[] = []
-    // Sheets locked in id order, so two issues of overlapping sheets take their locks in one order.
-    for (const id of [...members.map((member) => member.id)].sort((a, b) => a - b)) states.push((await loadState(executor, id, lock))!)
-    const ordered = members.map((member) => states.find((state) => state.sheet.id === member.id)!)
-    const stale = ordered.filter((state) => state.revision.version !== named.get(state.sheet.id)).map((state) => state.sheet.number)
-    if (stale.length) return { problem: `Changed since you loaded them: ${stale.join(', ')}` } as const
-    const waiting = ordered.filter((state) => !canDo(person, state.facts).issue.allowed && state.facts.status !== 'issued')
-    if (waiting.length) return { problem: `Every sheet must be approved first: ${waiting.map((state) => `${state.sheet.number} (${state.facts.status})`).join(', ')}` } as const
-    const fresh = ordered.filter((state) => state.facts.status === 'approved')
-    if (fresh.length === 0) return { problem: 'Every sheet of this package is already issued at its current revision' } as const
-    const firm = await readFirmSettings(executor)
-    const labels = new Map<number, string>()
-    for (const state of fresh) labels.set(state.sheet.id, nextRevisionLabel(firm.revisionLabelRule, await earlierLabels(executor, state.sheet.id), body.purpose))
-    return { ordered, fresh, labels } as const
-  }
-
-  const first = await plan(db, false)
-  if ('problem' in first) return packageConflict(first.problem!)
   const issuedAt = new Date()
-  const issuerName = await printedNameOf(db, viewer.id)
-  const stamp = (label: string) => ({ label, purpose: body.purpose, issuedBy: issuerName, issuedAt: issuedAt.toISOString() })
+  const stamp = (label: string) => ({ label, purpose: job.purpose, issuedBy: issuer.name, issuedAt: issuedAt.toISOString() })
+  const total = first.ordered.length
   const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
-  for (const state of first.fresh) pdfs.set(state.revision.id, await renderer.renderSheetPdf(state.revision.id, { issue: stamp(first.labels.get(state.sheet.id)!) }))
+  const parts: PackagePart[] = new Array(total)
+  // As many sheets at once as the renderer has tabs: each lane takes the next sheet. On a failure no lane starts
+  // another, and the failure of the first failed sheet in the package's order is the job's error.
+  let next = 0
+  let finished = 0
+  const failures = new Map<number, Error>()
+  const renderOne = async (index: number) => {
+    const state = first.ordered[index]!
+    await run.progress({ done: finished, total, what: `sheet ${index + 1} of ${total}: ${state.sheet.number}` })
+    const label = first.labels.get(state.sheet.id)
+    let bytes: Uint8Array
+    if (label !== undefined) {
+      try {
+        const pdf = await renderers.renderSheetPdf(state.revision.id, { issue: stamp(label) })
+        pdfs.set(state.revision.id, pdf)
+        bytes = pdf.bytes
+      } catch (error) {
+        throw new JobFailure(`Sheet ${index + 1} of ${total}, ${state.sheet.number}, could not be printed: ${error instanceof Error ? error.message : String(error)}`)
+      }
+    } else {
+      const [stored] = await db.select({ bytes: revisionPdfs.bytes }).from(revisionPdfs).where(eq(revisionPdfs.revisionId, state.revision.id))
+      if (!stored) throw new JobFailure(`Sheet ${state.sheet.number} is issued but has no stored PDF`, false)
+      bytes = stored.bytes
+    }
+    parts[index] = { number: state.sheet.number, title: state.sheet.title, loopTag: state.sheet.loopTag, label: label ?? state.revision.label ?? '', newInPackage: label !== undefined, bytes }
+    finished++
+  }
+  const lane = async () => {
+    while (next < total && failures.size === 0 && !run.signal.aborted) {
+      const index = next++
+      await renderOne(index).catch((error: unknown) => failures.set(index, error instanceof Error ? error : new Error(String(error))))
+    }
+  }
+  await Promise.all(Array.from({ length: Math.min(renderTabs, total) }, lane))
+  if (failures.size) throw failures.get(Math.min(...failures.keys()))!
+  if (run.signal.aborted) throw new Error('The render was stopped before it finished')
+  await run.progress({ done: total, total, what: 'the cover sheet and the package page numbers' })
+  const [client] = await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, found.organisationId))
+  const recipients = await clientContactsOf(db, found.projectId)
+  const facts: CoverFacts = {
+    firm: { name: first.firm.name, paperSize: first.firm.paperSize },
+    projectNumber: found.projectNumber,
+    projectName: found.projectName,
+    clientName: client?.name ?? '',
+    packageNumber: found.number,
+    packageTitle: found.title,
+    label: first.packageLabel,
+    purpose: job.purpose,
+    issuedBy: issuer.name,
+    issuedAt: issuedAt.toISOString(),
+    recipients: recipients.map((recipient) => ({ name: recipient.name, email: recipient.email })),
+  }
+  let packagePdf: Awaited<ReturnType<PdfRenderer['renderPackagePdf']>>
+  try {
+    packagePdf = await renderers.renderPackagePdf(packageId, facts, parts)
+  } catch (error) {
+    throw new JobFailure(`The cover sheet of package ${found.number} could not be printed: ${error instanceof Error ? error.message : String(error)}`)
+  }
+  if (run.signal.aborted) throw new Error('The render was stopped before it finished')
   const revisionIds = first.ordered.map((state) => state.revision.id)
-  const packagePdf = await renderer.renderPackagePdf(packageId, { issue: stamp(''), revisionIds, parts: new Map([...pdfs].map(([id, pdf]) => [id, pdf.bytes])) })
+  const links: Links = { siteUrl: job.siteUrl }
 
   const outcome = await db.transaction(async (tx) => {
     await tx.select({ id: packages.id }).from(packages).where(eq(packages.id, packageId)).for('update')
-    const locked = await plan(tx, true)
+    const locked = await packagePlan(tx, packageId, job, person, true)
     if ('problem' in locked) return { problem: locked.problem! }
     const same =
+      locked.packageLabel === first.packageLabel &&
       locked.ordered.map((state) => state.revision.id).join() === revisionIds.join() &&
       locked.fresh.every((state) => locked.labels.get(state.sheet.id) === first.labels.get(state.sheet.id) && pdfs.has(state.revision.id))
     if (!same) return { problem: 'The package changed while its PDFs were made: issue it again' }
     const issued: PackageIssueAnswer['issued'] = []
     for (const state of locked.fresh) {
       const label = locked.labels.get(state.sheet.id)!
-      await writeIssue(tx, state, { label, purpose: body.purpose, issuedAt, issuer: viewer, issuerName }, pdfs.get(state.revision.id)!)
+      await writeIssue(tx, state, { label, purpose: job.purpose, issuedAt, issuer: viewer, issuerName: issuer.name }, pdfs.get(state.revision.id)!)
       issued.push({ sheetId: state.sheet.id, revisionId: state.revision.id, label })
       await recordAuditEvent(tx, context, {
         action: 'sheet.issued',
         subjectType: 'sheet',
         subjectId: state.sheet.id,
-        detail: { revisionId: state.revision.id, label, purpose: body.purpose, contentHash: state.hash, pdfSha256: pdfs.get(state.revision.id)!.sha256, packageId },
+        detail: { revisionId: state.revision.id, label, purpose: job.purpose, contentHash: state.hash, pdfSha256: pdfs.get(state.revision.id)!.sha256, packageId, jobId: run.jobId },
       })
     }
     const [row] = await tx
       .insert(packageIssues)
-      .values({ packageId, purpose: body.purpose, issuedBy: viewer.id, issuedAt, revisionIds, bytes: packagePdf.bytes, sha256: packagePdf.sha256, fileName: packagePdf.fileName, pages: packagePdf.pages })
+      .values({ packageId, purpose: job.purpose, issuedBy: viewer.id, issuedAt, revisionIds, bytes: packagePdf.bytes, sha256: packagePdf.sha256, fileName: packagePdf.fileName, pages: packagePdf.pages, label: first.packageLabel, jobId: run.jobId })
       .returning({ id: packageIssues.id })
-    const mails = await clientMails(tx, found.projectId, `package ${found.number} “${found.title}”`, issued.map((sheet) => ({ title: `revision ${sheet.label}`, url: documentLink(links, sheet.revisionId) })), body.purpose)
+    const mails = await clientMails(tx, found.projectId, `package ${found.number} “${found.title}”, revision ${first.packageLabel}`, issued.map((sheet) => ({ title: `revision ${sheet.label}`, url: documentLink(links, sheet.revisionId) })), job.purpose)
     await queueMail(tx, ...mails)
     await recordAuditEvent(tx, context, {
       action: 'package.issued',
       subjectType: 'package',
       subjectId: packageId,
-      detail: { packageIssueId: row!.id, purpose: body.purpose, revisionIds, issued, pdfSha256: packagePdf.sha256, notified: mails.length },
+      detail: { packageIssueId: row!.id, label: first.packageLabel, purpose: job.purpose, revisionIds, issued, pdfSha256: packagePdf.sha256, pages: packagePdf.pages, notified: mails.length, jobId: run.jobId },
     })
-    return { value: { packageIssueId: row!.id, issued, sha256: packagePdf.sha256, fileName: packagePdf.fileName } }
+    return { value: { packageIssueId: row!.id, label: first.packageLabel, pages: packagePdf.pages, issued, sha256: packagePdf.sha256, fileName: packagePdf.fileName } }
   })
-  if ('problem' in outcome) return packageConflict(outcome.problem!)
+  if ('problem' in outcome) return refuse(outcome.problem!)
+  await run.progress({ done: total, total, what: 'issued' })
   return outcome.value
 }
-

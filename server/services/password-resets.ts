@@ -4,11 +4,11 @@
 // answer nor its time tells which addresses exist. Throttles (counted in password_reset_requests, whatever the
 // address): ten requests from one client address in 15 minutes answer 429; past three links to one address in an
 // hour, the request is answered as usual and no further mail goes.
-import { createHash, randomBytes } from 'node:crypto'
 import { and, eq, gt, isNull, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import { passwordResetRequests, passwordResets, people } from '../db/schema'
 import type { Database } from '../utils/db'
+import { newSecretToken, tokenHash } from '../utils/token-hash'
 import { recordAuditEvent, type AuditContext } from './audit-trail'
 import { audited } from './audited'
 import { queueMail } from './outbox'
@@ -17,8 +17,6 @@ import { setPassword } from './passwords'
 export const resetLinkMinutes = 60
 export const requestsPerClient = { count: 10, minutes: 15 }
 export const linksPerAddress = { count: 3, minutes: 60 }
-
-const hashToken = (token: string) => createHash('sha256').update(token).digest('hex')
 
 /** Answers nothing; throws 429 (with retryAfterSeconds) past the client's limit. */
 export async function requestPasswordReset(db: Database, email: string, context: AuditContext, siteUrl: string): Promise<void> {
@@ -45,8 +43,8 @@ export async function requestPasswordReset(db: Database, email: string, context:
       await recordAuditEvent(tx, context, { action: 'password.reset-throttled', subjectType: 'person', subjectId: person.id })
       return
     }
-    const token = randomBytes(32).toString('base64url')
-    await tx.insert(passwordResets).values({ personId: person.id, tokenHash: hashToken(token), ip: context.ip, expiresAt: sql`now() + make_interval(mins => ${resetLinkMinutes})` })
+    const token = newSecretToken()
+    await tx.insert(passwordResets).values({ personId: person.id, tokenHash: tokenHash(token), ip: context.ip, expiresAt: sql`now() + make_interval(mins => ${resetLinkMinutes})` })
     await queueMail(tx, {
       kind: 'password.reset',
       to: email,
@@ -70,7 +68,7 @@ async function openReset(db: Pick<Database, 'select'>, token: string) {
     .select({ id: passwordResets.id, personId: people.id, email: people.email, active: people.active, usedAt: passwordResets.usedAt, expired: sql<boolean>`${passwordResets.expiresAt} <= now()` })
     .from(passwordResets)
     .innerJoin(people, eq(people.id, passwordResets.personId))
-    .where(eq(passwordResets.tokenHash, hashToken(token)))
+    .where(eq(passwordResets.tokenHash, tokenHash(token)))
   if (!row || row.usedAt || !row.active) throw createError({ statusCode: 404, statusMessage: 'This reset link is unknown or already used' })
   if (row.expired) throw createError({ statusCode: 410, statusMessage: 'This reset link has expired; ask for a new one' })
   return row

@@ -7,7 +7,7 @@ import { sha256Hex } from '../utils/content-hash'
 import { mkdtemp, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
-import puppeteer, { type Browser } from 'puppeteer-core'
+import puppeteer, { type Browser, type BrowserContext, type Page } from 'puppeteer-core'
 import { PDFDocument } from 'pdf-lib'
 import { useDb } from '../utils/db'
 import { makeRenderToken } from '../utils/render-token'
@@ -33,6 +33,8 @@ export class RenderError extends Error {}
 const CHROMIUM = process.env.LOOPWRIGHT_CHROMIUM ?? '/usr/bin/chromium'
 /** Tabs printing at once: two cores on the reference machine, and each tab's layout is single-threaded. */
 const MAX_PAGES = Number(process.env.LOOPWRIGHT_PDF_PAGES ?? 2)
+/** How many renders one caller may usefully start at once (a package's sheets): the tabs there are. */
+export const renderTabs = MAX_PAGES
 /** Longest wait for the print view to say it is ready (fonts in, formulas fitted). */
 const READY_TIMEOUT_MS = 30_000
 
@@ -56,12 +58,19 @@ async function launch() {
       '--disable-quic',
       '--no-first-run',
       '--no-default-browser-check',
+      // No zygote processes and no spare renderer kept waiting: fewer processes, less memory (scripts/bench-pdf.ts).
+      '--no-zygote',
+      '--disable-features=SpareRendererForSitePerProcess,AudioServiceOutOfProcess',
     ],
   })
+  // The blank tab Chromium opens at launch holds a renderer process of its own (seen in the bench's breakdown):
+  // renders use tabs of their own context, so it is closed.
+  for (const blank of await browser.pages()) await blank.close().catch(() => {})
   browser.on('disconnected', () => {
-    // A browser that died (or was closed) is launched afresh by the next render.
+    // A browser that died (or was closed) is launched afresh by the next render, with new tabs.
     browserStarting = null
-    void rm(userDataDir, { recursive: true, force: true })
+    forgetTabs()
+    rm(userDataDir, { recursive: true, force: true, maxRetries: 3 }).catch(() => {})
   })
   return { browser, userDataDir }
 }
@@ -83,17 +92,90 @@ async function warmBrowser(): Promise<Browser> {
 export async function closeRenderer() {
   const starting = browserStarting
   browserStarting = null
+  forgetTabs()
   if (starting) await (await starting).browser.close().catch(() => {})
+}
+
+/**
+ * A tab kept warm between renders: it stays on the app's print view, so the next render moves it there through the
+ * app's router (window.loopwrightPrint of the print page) instead of loading the page, its scripts and fonts again.
+ * Measured on PIC-214-01 (scripts/bench-pdf.ts): a fresh context and a page load per render spent most of its
+ * time compiling the app's scripts, hydrating and laying the page out again.
+ */
+interface Tab {
+  page: Page
+  /** Renders done in it; a tab is closed after MAX_RENDERS_PER_TAB, so nothing it keeps can grow without end. */
+  renders: number
+  /** Whether the app is loaded in it (the next render can go through the router). */
+  warm: boolean
+  /** The outside requests of the render in hand. */
+  blocked: string[]
+  /** Told of an answer of the print data route that was not 200 (the page then shows an error, never ready). */
+  onRefused: ((status: number) => void) | null
+}
+const tabs: Tab[] = []
+const idle: Tab[] = []
+const MAX_RENDERS_PER_TAB = 200
+let context: Promise<BrowserContext> | null = null
+function forgetTabs() {
+  tabs.length = 0
+  idle.length = 0
+  context = null
+}
+
+async function openTab(browser: Browser, origin: string): Promise<Tab> {
+  context ??= browser.createBrowserContext()
+  const shared = await context.catch((error: unknown) => {
+    context = null
+    throw error
+  })
+  // Each tab in a window of its own: a background tab of a shared window gets no animation frames, and the print
+  // view waits for two before it says it is ready.
+  const page = await shared.newPage({ type: 'window' })
+  const tab: Tab = { page, renders: 0, warm: false, blocked: [], onRefused: null }
+  await page.setRequestInterception(true)
+  page.on('request', (request) => {
+    const url = request.url()
+    if (url.startsWith(`${origin}/`) || url.startsWith('data:') || url.startsWith('blob:')) return void request.continue()
+    tab.blocked.push(url)
+    void request.abort('blockedbyclient')
+  })
+  page.on('response', (response) => {
+    if (response.url().startsWith(`${origin}/api/print/`) && response.status() !== 200) tab.onRefused?.(response.status())
+  })
+  await page.emulateMediaType('print')
+  return tab
+}
+
+function dropTab(tab: Tab) {
+  const index = tabs.indexOf(tab)
+  if (index >= 0) tabs.splice(index, 1)
+  void tab.page.close().catch(() => {})
 }
 
 // A counting semaphore: at most MAX_PAGES tabs at once, first come first served.
 let busy = 0
 const waiting: (() => void)[] = []
-async function withTab<T>(work: () => Promise<T>): Promise<T> {
+async function withTab<T>(work: (tab: Tab) => Promise<T>): Promise<T> {
   if (busy >= MAX_PAGES) await new Promise<void>((resolve) => waiting.push(resolve))
   else busy++
+  let tab: Tab | undefined
   try {
-    return await work()
+    const browser = await warmBrowser()
+    tab = idle.pop()
+    if (tab && (!tabs.includes(tab) || tab.page.isClosed())) tab = undefined
+    if (!tab) {
+      tab = await openTab(browser, loopbackOrigin())
+      tabs.push(tab)
+    }
+    const result = await work(tab)
+    if (++tab.renders < MAX_RENDERS_PER_TAB) idle.push(tab)
+    else dropTab(tab)
+    return result
+  } catch (error) {
+    // A tab that failed may hold an error page or a half-made view: it is closed, and the next render opens a new one.
+    if (tab) dropTab(tab)
+    throw error
   } finally {
     const next = waiting.shift()
     if (next) next()
@@ -106,34 +188,83 @@ export function loopbackOrigin() {
   return `http://127.0.0.1:${process.env.NITRO_PORT ?? process.env.PORT ?? '3000'}`
 }
 
-/** Prints `path` of this app to PDF bytes, blocking every request that is not to this app. */
-async function printPage(path: string): Promise<{ bytes: Uint8Array; blockedRequests: string[] }> {
-  const origin = loopbackOrigin()
-  return withTab(async () => {
-    const browser = await warmBrowser()
-    const context = await browser.createBrowserContext()
-    const blockedRequests: string[] = []
+/** What a print in a tab answers: the PDF, and the requests of the page that were refused for leaving the app. */
+interface Printed {
+  bytes: Uint8Array
+  blockedRequests: string[]
+}
+
+/**
+ * Opens what `open` loads in a warm tab, waits for `readySelector`, and prints it, with every request that is not
+ * to this app aborted and listed. `leavesApp`: `open` leaves the app's print view, so the next render loads it again.
+ */
+function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, leavesApp: boolean): Promise<Printed> {
+  return withTab(async (tab) => {
+    const { page } = tab
+    tab.blocked = []
+    const refused = new Promise<never>((_, reject) => {
+      tab.onRefused = (status) => reject(new RenderError(`The print data answered ${status}`))
+    })
+    refused.catch(() => {})
     try {
-      const page = await context.newPage()
-      await page.setRequestInterception(true)
-      page.on('request', (request) => {
-        const url = request.url()
-        if (url.startsWith(`${origin}/`) || url.startsWith('data:') || url.startsWith('blob:')) return void request.continue()
-        blockedRequests.push(url)
-        void request.abort('blockedbyclient')
-      })
-      await page.emulateMediaType('print')
-      const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
-      if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
-      await page.waitForSelector('.lw-print[data-print-ready="true"]', { timeout: READY_TIMEOUT_MS })
+      if (leavesApp) tab.warm = false
+      await open(tab)
+      await Promise.race([page.waitForSelector(readySelector, { timeout: READY_TIMEOUT_MS }), refused])
       const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, timeout: READY_TIMEOUT_MS })
-      return { bytes, blockedRequests }
+      tab.warm = !leavesApp
+      return { bytes, blockedRequests: [...tab.blocked] }
     } finally {
-      await context.close().catch(() => {})
+      tab.onRefused = null
     }
   })
 }
 
+/** Prints the print view at `path` of this app (`/sheets/[id]/print?render=<token>`) in a warm tab. */
+async function printPage(path: string): Promise<Printed> {
+  const origin = loopbackOrigin()
+  const token = new URL(path, origin).searchParams.get('render')
+  if (!token) throw new RenderError('A print needs a render token')
+  // The view of this render (its token: base64url and a dot, nothing to escape), not the one the tab showed before.
+  const ready = `.lw-print[data-print-ready="true"][data-render="${token}"]`
+  return printInTab(
+    async ({ page, warm }) => {
+      // Run in the page (the server's types know no `window`): the print view's own way to the next render.
+      if (warm && (await page.evaluate('typeof window.loopwrightPrint === "function"'))) {
+        await page.evaluate(`void window.loopwrightPrint(${JSON.stringify(path)})`)
+        return
+      }
+      const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
+      if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
+    },
+    ready,
+    false,
+  )
+}
+
+/**
+ * Prints another print page of this app at `path` (a package's cover sheet, `/packages/[id]/print?render=<token>`):
+ * loaded afresh in a render tab (it is not the sheet's print view, so the tab's next sheet loads that again), ready
+ * when its `.lw-print` says so, under the same blocking of every request that leaves the app.
+ */
+export function printAppPage(path: string): Promise<Printed> {
+  const origin = loopbackOrigin()
+  return printInTab(
+    async ({ page }) => {
+      const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
+      if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
+    },
+    '.lw-print[data-print-ready="true"]',
+    true,
+  )
+}
+
+/**
+ * For the tests: `html` printed in a render tab under the same blocking as a sheet, ready once `readySelector`
+ * shows; it answers which requests were refused. Proves that a page reaching outside reaches nothing.
+ */
+export function printHtmlForTest(html: string, readySelector: string): Promise<Printed> {
+  return printInTab(({ page }) => page.setContent(html, { waitUntil: 'load', timeout: READY_TIMEOUT_MS }), readySelector, true)
+}
 
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
 export async function renderSheetPdf(revisionId: number, options: SheetRenderOptions = {}): Promise<RenderedPdf> {

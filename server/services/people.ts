@@ -12,7 +12,6 @@ import { audited } from './audited'
 import { matchesTerm } from './search'
 import { createInvitation } from './invitations'
 import { endSessionsOf } from './sessions'
-import type { SendMail } from './outgoing-mail'
 
 const status = sql<PersonRow['status']>`case
   when not ${people.active} then 'deactivated'
@@ -69,12 +68,12 @@ export async function listPeople(db: Database, query: z.output<typeof peopleQuer
   return { items: rows.map(toPersonRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
 }
 
-/** Creates the person without a password and e-mails them a one-time link to choose one. */
+/** Creates the person without a password and e-mails them (through the outbox) a one-time link to choose one. */
 export async function invitePerson(
   db: Database,
   body: InviteBody,
   context: AuditContext,
-  invitation: { siteUrl: string; send: SendMail },
+  siteUrl: string,
 ): Promise<PersonRow> {
   const organisationId = body.roles.includes('client') ? (body.organisationId ?? null) : null
   if (organisationId !== null) {
@@ -87,7 +86,7 @@ export async function invitePerson(
       })
     }
   }
-  const { personId, token } = await audited(
+  const { personId } = await audited(
     db,
     context,
     ({ personId }: { personId: number }) => ({
@@ -105,24 +104,10 @@ export async function invitePerson(
       if (!created) {
         throw createError({ statusCode: 409, statusMessage: 'Someone with this e-mail address already has an account' })
       }
-      return { personId: created.id, token: await createInvitation(tx, created.id, context.actorId) }
+      await createInvitation(tx, { id: created.id, name: body.name, email: body.email }, context.actorId, siteUrl)
+      return { personId: created.id }
     },
   )
-  const link = `${invitation.siteUrl.replace(/\/$/, '')}/invitation/${token}`
-  await invitation.send({
-    to: body.email,
-    subject: 'Your Loopwright account: choose a password',
-    text: [
-      `Hello ${body.name},`,
-      '',
-      'An administrator has opened a Loopwright account for you.',
-      'Choose your password with this link. It works once and expires in 7 days:',
-      '',
-      link,
-      '',
-      'If you did not expect this message, you can ignore it.',
-    ].join('\n'),
-  })
   return (await findPersonRow(db, personId))!
 }
 

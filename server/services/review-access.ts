@@ -2,7 +2,7 @@
 // share (product.md, "Who uses it"; issue 8, item 1: nobody checks a revision they prepared or edited).
 import { and, eq, sql } from 'drizzle-orm'
 import { createError } from 'h3'
-import { auditEvents, projectMembers, sheetRevisions, sheets } from '../db/schema'
+import { auditEvents, projectMembers, revisionEditors, sheetRevisions, sheets } from '../db/schema'
 import type { ProjectRole } from '../../shared/schemas/roles'
 import type { SheetStatus } from '../../shared/schemas/sheet'
 import type { Executor } from './audited'
@@ -61,12 +61,19 @@ export async function loadRevision(db: Executor, revisionId: number, lock = fals
 export type LoadedRevision = Awaited<ReturnType<typeof loadRevision>>
 
 /**
- * Whether `personId` prepared or edited the revision: its preparer, its last editor, or anyone whose save of it is
- * in the audit trail (`sheet.saved` names the revision). The flow helper's `revision_editors` table will hold the
- * same list; until it lands, the trail is the record of every save.
+ * Whether `personId` prepared or edited the revision: its preparer, its last editor, anyone in `revision_editors`
+ * (every save since the lifecycle migration records its editor there), or anyone whose save of it is in the audit
+ * trail (`sheet.saved` names the revision): revisions saved before that migration have only the preparer and the
+ * last editor in `revision_editors`, while the trail holds every save, so both are read.
  */
 export async function preparedOrEdited(db: Executor, revision: Pick<LoadedRevision, 'id' | 'preparedBy' | 'editedBy'>, personId: number): Promise<boolean> {
   if (revision.preparedBy === personId || revision.editedBy === personId) return true
+  const [editor] = await db
+    .select({ personId: revisionEditors.personId })
+    .from(revisionEditors)
+    .where(and(eq(revisionEditors.revisionId, revision.id), eq(revisionEditors.personId, personId)))
+    .limit(1)
+  if (editor) return true
   const [saved] = await db
     .select({ id: auditEvents.id })
     .from(auditEvents)

@@ -8,6 +8,7 @@ import type { StructureNode as LoopNode } from '../../shared/schemas/loop'
 import type { SheetDocument } from '../../shared/schemas/sheet'
 import type { FieldChange, ItemChange, ResultChange, TextChange } from '../../shared/schemas/revisions'
 import { formatNumber } from '../../app/utils/format'
+import { criterionNames } from '../../app/utils/criterionNames'
 
 const shown = (value: unknown): string | null => (value === undefined || value === null || value === '' ? null : typeof value === 'string' ? value : JSON.stringify(value))
 
@@ -147,8 +148,11 @@ function readings(result: CalcResult): Array<{ kind: 'figure' | 'verdict'; quant
   add('figure', 'stability_range', 'Stable range', intervals ? intervals.map(([lo, hi]) => `[${figure(lo)}, ${figure(hi)}]`).join(', ') || 'none' : 'not asked')
   add('verdict', 'tolerance_corners.all_stable', 'Every tolerance corner stable', result.tolerance_corners ? (result.tolerance_corners.all_stable ? 'yes' : 'no') : 'none')
   for (const row of result.criteria ?? []) {
-    add('figure', `criteria.${row.name}.value`, `Criterion ${row.name}`, figure(row.value))
-    add('verdict', `criteria.${row.name}.pass`, `Criterion ${row.name}`, row.pass ? 'pass' : 'fail')
+    // The criterion in the words and unit of the sheet's own criteria table.
+    const named = criterionNames[row.name as keyof typeof criterionNames]
+    const label = `Criterion: ${named?.label ?? row.name}`
+    add('figure', `criteria.${row.name}.value`, label, figure(row.value, named?.unit || undefined))
+    add('verdict', `criteria.${row.name}.pass`, `${label}, verdict`, row.pass ? 'pass' : 'fail')
   }
   return list
 }

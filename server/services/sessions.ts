@@ -7,10 +7,10 @@
 // 12 hours whatever the activity and after 30 minutes of inactivity. 12 hours absolute is also common
 // practice for firm tools (a working day); 30 minutes idle follows the same guideline, so a session left
 // open on an unattended desk ends within half an hour.
-import { createHash, randomBytes } from 'node:crypto'
 import { and, eq, gt, isNull, sql } from 'drizzle-orm'
 import { people, sessions } from '../db/schema'
 import type { Database } from '../utils/db'
+import { newSecretToken, tokenHash } from '../utils/token-hash'
 import type { Role } from '../../shared/schemas/roles'
 
 export const absoluteLifetimeHours = 12
@@ -48,17 +48,13 @@ export function sessionPersonOf(person: typeof people.$inferSelect): SessionPers
   }
 }
 
-function hashSessionId(sessionId: string): string {
-  return createHash('sha256').update(sessionId).digest('hex')
-}
-
 type Executor = Pick<Database, 'insert' | 'update' | 'select'>
 
 /** Opens a session for the person; returns the id to seal into the cookie (it is not stored). */
 export async function startSession(db: Executor, personId: number, ip: string | null): Promise<string> {
-  const sessionId = randomBytes(32).toString('base64url')
+  const sessionId = newSecretToken()
   await db.insert(sessions).values({
-    tokenHash: hashSessionId(sessionId),
+    tokenHash: tokenHash(sessionId),
     personId,
     ip,
     expiresAt: sql`now() + make_interval(hours => ${absoluteLifetimeHours})`,
@@ -71,7 +67,7 @@ export async function endSession(db: Executor, sessionId: string, reason: EndRea
   const ended = await db
     .update(sessions)
     .set({ revokedAt: sql`now()`, revokedReason: reason })
-    .where(and(eq(sessions.tokenHash, hashSessionId(sessionId)), isNull(sessions.revokedAt)))
+    .where(and(eq(sessions.tokenHash, tokenHash(sessionId)), isNull(sessions.revokedAt)))
     .returning({ id: sessions.id })
   return ended.length > 0
 }
@@ -110,7 +106,7 @@ export async function checkSession(db: Database, sessionId: string | undefined):
     })
     .from(sessions)
     .leftJoin(people, eq(people.id, sessions.personId))
-    .where(eq(sessions.tokenHash, hashSessionId(sessionId)))
+    .where(eq(sessions.tokenHash, tokenHash(sessionId)))
   if (!row) return { state: 'ended', reason: 'unknown session', personId: null }
   if (row.revoked) return { state: 'ended', reason: (row.revokedReason as EndReason | null) ?? 'signed out', personId: row.personId }
   if (!row.person) return { state: 'ended', reason: 'person no longer exists', personId: row.personId }

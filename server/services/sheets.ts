@@ -2,7 +2,7 @@
 // template, or a copy), the sheet with its current revision, and saves that recompute through the engine.
 // Who may do what (product.md, "Who uses it"): admins and project members read; engineers who are members create
 // and save drafts (and returned sheets); checkers read; clients see only issued revisions, never a draft.
-import { and, asc, desc, eq, ilike, inArray, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, ilike, inArray, ne, or, sql, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/pg-core'
 import { createError } from 'h3'
 import { organisations, packages, people, projectMembers, projects, revisionEditors, sheetRevisions, sheets } from '../db/schema'
@@ -182,7 +182,8 @@ export async function listProjectSheets(db: Database, projectId: number, query: 
 
 /**
  * GET /api/sheets: the sheets whose current revision `viewer` prepared, across the projects they are still an
- * engineer member of; `mine=drafts` keeps the ones they can still edit (draft or returned).
+ * engineer member of; `mine=drafts` keeps the ones they can still edit (draft or returned), `mine=ready` the approved
+ * ones waiting to be issued.
  */
 export async function listMySheets(db: Database, query: MySheetsQuery, viewer: Viewer): Promise<Page<MySheetRow>> {
   const filters = [
@@ -191,6 +192,7 @@ export async function listMySheets(db: Database, query: MySheetsQuery, viewer: V
     sql`exists (select 1 from ${projectMembers} m where m.project_id = "sheets"."project_id" and m.person_id = ${viewer.id} and m.role = 'engineer')`,
   ]
   if (query.mine === 'drafts') filters.push(inArray(sheets.currentStatus, [...editableStatuses]))
+  if (query.mine === 'ready') filters.push(eq(sheets.currentStatus, 'approved'))
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db
@@ -210,13 +212,15 @@ export async function listMySheets(db: Database, query: MySheetsQuery, viewer: V
 }
 
 /**
- * GET /api/check-queue (issue 8, item 10): revisions in check in the projects where `viewer` is a checker member,
- * the longest waiting first. Each says whether `viewer` may check it: not one they prepared or last edited.
- * (The workflow's `revision_editors` will name everyone who edited a revision; until it lands the revision's
- * preparer and last editor are what the database knows.)
+ * GET /api/check-queue (issue 8, item 10): the revisions in check waiting for `viewer`, in the projects where they are
+ * a checker member, the longest waiting since submission first. Never one they prepared or edited (product.md: the
+ * checker is independent): its preparer and everyone in `revision_editors` (every save adds its editor) are left out.
  */
 export async function listCheckQueue(db: Database, viewer: Viewer): Promise<CheckQueueRow[]> {
   if (!viewer.roles.includes('checker')) return []
+  // A revision put in check other than by submitting it (by hand, or before submissions were timed) has no
+  // submission time: its last change stands in.
+  const waitingSince = sql<Date>`coalesce(${current.submittedAt}, ${current.editedAt})`.mapWith(current.editedAt)
   const rows = await db
     .select({
       sheetId: sheets.id,
@@ -227,10 +231,8 @@ export async function listCheckQueue(db: Database, viewer: Viewer): Promise<Chec
       loopTag: sheets.loopTag,
       projectId: projects.id,
       projectNumber: projects.number,
-      preparedById: current.preparedBy,
-      editedById: current.editedBy,
       preparedByName: preparer.name,
-      waitingSince: current.editedAt,
+      waitingSince,
     })
     .from(sheets)
     .innerJoin(current, and(eq(current.sheetId, sheets.id), eq(current.revisionIndex, sheets.currentRevisionIndex)))
@@ -240,14 +242,13 @@ export async function listCheckQueue(db: Database, viewer: Viewer): Promise<Chec
       and(
         eq(sheets.currentStatus, 'in check'),
         sql`exists (select 1 from ${projectMembers} m where m.project_id = ${sheets.projectId} and m.person_id = ${viewer.id} and m.role = 'checker')`,
+        ne(current.preparedBy, viewer.id),
+        sql`not exists (select 1 from ${revisionEditors} e where e.revision_id = ${current.id} and e.person_id = ${viewer.id})`,
       ),
     )
-    .orderBy(asc(current.editedAt), asc(current.id))
+    .orderBy(asc(waitingSince), asc(current.id))
     .limit(200)
-  return rows.map(({ preparedById, editedById, waitingSince, ...row }) => {
-    const reason = preparedById === viewer.id ? 'You prepared this revision' : editedById === viewer.id ? 'You edited this revision' : null
-    return { ...row, waitingSince: waitingSince.toISOString(), mayCheck: reason === null, reason }
-  })
+  return rows.map((row) => ({ ...row, waitingSince: row.waitingSince.toISOString() }))
 }
 
 // ---------------------------------------------------------------------------------------------------------------

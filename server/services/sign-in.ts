@@ -13,7 +13,7 @@ import { auditEvents, loginAttempts, people } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { LoginBody } from '../../shared/schemas/auth'
 import { recordAuditEvent, type AuditContext } from './audit-trail'
-import type { SendMail } from './outgoing-mail'
+import { queueMail, type QueuedMail } from './outbox'
 import { endSession, sessionPersonOf, startSession, type SessionPerson } from './sessions'
 
 export const addressFailureLimit = 5
@@ -83,8 +83,6 @@ type Outcome =
 
 export interface SignInOptions {
   passwords: Passwords
-  /** Tells an account's owner that sign-ins to it are being throttled. */
-  send: SendMail
   /** The id of the session the browser still holds, if any: a new sign-in ends it. */
   previousSessionId?: string
 }
@@ -93,7 +91,6 @@ export async function signIn(db: Database, body: LoginBody, context: AuditContex
   const email = body.email
   const ip = context.ip
   const dummy = await dummyHashOf(options.passwords)
-  let notice: { to: string; name: string } | null = null
   // The refusal is thrown after the transaction commits, so the failure it records is kept.
   const outcome = await db.transaction(async (tx): Promise<Outcome> => {
     // One attempt at a time per address, so parallel guesses cannot slip past the count.
@@ -151,7 +148,8 @@ export async function signIn(db: Database, body: LoginBody, context: AuditContex
           subjectId: person.id,
           detail: { email },
         })
-        notice = { to: person.email, name: person.name }
+        // In the transaction of the failure that reached the limit: the worker delivers it after the commit.
+        await queueMail(tx, throttleNotice({ to: person.email, name: person.name }, ip))
       }
       return { ok: false, status: 401 }
     }
@@ -165,7 +163,6 @@ export async function signIn(db: Database, body: LoginBody, context: AuditContex
     })
     return { ok: true, signedIn: { user: sessionPersonOf(person), sessionId } }
   })
-  if (notice) sendThrottleNotice(options.send, notice, ip)
   if (outcome.ok) return outcome.signedIn
   if (outcome.status === 429) {
     throw createError({
@@ -177,9 +174,10 @@ export async function signIn(db: Database, body: LoginBody, context: AuditContex
   throw createError({ statusCode: 401, statusMessage: 'Wrong e-mail or password' })
 }
 
-/** Not awaited: the answer to the requester neither waits for the mail nor depends on it. */
-function sendThrottleNotice(send: SendMail, owner: { to: string; name: string }, ip: string | null): void {
-  send({
+/** The mail to an account's owner whose address has reached the limit; the requester learns nothing of it. */
+function throttleNotice(owner: { to: string; name: string }, ip: string | null): QueuedMail {
+  return {
+    kind: noticeAction,
     to: owner.to,
     subject: 'Loopwright: failed sign-ins to your account',
     text: [
@@ -193,7 +191,5 @@ function sendThrottleNotice(send: SendMail, owner: { to: string; name: string },
       'If this was you, nothing needs doing. If it was not, tell your administrator.',
       `You will hear from us about this at most once every ${windowMinutes} minutes.`,
     ].join('\n'),
-  }).catch((failure: unknown) => {
-    console.error('The throttle notice could not be sent:', failure)
-  })
+  }
 }

@@ -10,4 +10,11 @@ export function linksOf(event: H3Event): Links {
 
 export const signing: Signing = { verify: (hash, plain) => verifyPassword(hash, plain) }
 
-export const renderer = () => issueRenderer(useDb())
+/** The Noto face of the package page numbers, bundled as a server asset (nuxt.config.ts, `print-fonts`). */
+async function stampFont(): Promise<Uint8Array> {
+  const font = await useStorage('assets:print-fonts').getItemRaw<Uint8Array>('noto-sans-latin-400-normal.woff')
+  if (!font) throw new Error('The Noto face for page numbers is missing from the server assets')
+  return font instanceof Uint8Array ? font : new Uint8Array(font as ArrayBuffer)
+}
+
+export const renderer = () => issueRenderer(stampFont)

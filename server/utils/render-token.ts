@@ -4,7 +4,7 @@
 // only ever asks its own process over loopback, so no other process needs the key, and a token cannot outlive the
 // process that made it. Only the print view's data route (GET /api/print/[token]) accepts it.
 import { createHmac, randomBytes, timingSafeEqual } from 'node:crypto'
-import type { PrintIssue } from '../../shared/schemas/print'
+import type { PrintCover, PrintIssue } from '../../shared/schemas/print'
 
 const key = randomBytes(32)
 const LIFETIME_MS = 60_000
@@ -37,4 +37,27 @@ export function readRenderToken(token: string, now = Date.now()): RenderClaims |
   } catch {
     return null
   }
+}
+
+// A package's cover sheet is drawn from what the package render has just worked out (each sheet's pages, the
+// labels of the issue being made), which no table holds yet. So its token names an entry kept in this process's
+// memory for the same minute, made by the renderer and read only by GET /api/package-print/[token].
+const covers = new Map<string, { cover: PrintCover; expiresAt: number }>()
+
+export function makeCoverToken(cover: PrintCover, now = Date.now()): string {
+  for (const [token, entry] of covers) if (entry.expiresAt <= now) covers.delete(token)
+  const token = randomBytes(32).toString('base64url')
+  covers.set(token, { cover, expiresAt: now + LIFETIME_MS })
+  return token
+}
+
+/** The cover a token of this process names, while it lives; null for anything else. */
+export function readCoverToken(token: string, now = Date.now()): PrintCover | null {
+  const entry = covers.get(token)
+  return entry && entry.expiresAt > now ? entry.cover : null
+}
+
+/** The renderer lets go of a cover once it is printed. */
+export function dropCoverToken(token: string): void {
+  covers.delete(token)
 }

@@ -18,7 +18,7 @@ export const loginSchema = z.object({
 })
 export type LoginBody = z.infer<typeof loginSchema>
 
-/** A new password, as chosen on the invitation page. (A lone surrogate would be hashed as U+FFFD, so it is refused.) */
+/** A new password. (A lone surrogate would be hashed as U+FFFD, so it is refused.) */
 export const passwordSchema = storable(
   z
     .string({ required_error: 'Choose a password' })
@@ -26,18 +26,22 @@ export const passwordSchema = storable(
     .max(200, 'A password has at most 200 characters'),
 )
 
-/** POST /api/invitations/[token] */
-export const acceptInvitationSchema = z
+/** A new password typed twice: the body of both routes that set one, and their form (app/components/account/NewPasswordForm.vue). */
+export const newPasswordSchema = z
   .object({ password: passwordSchema, confirm: z.string().max(200) })
   .refine((body) => body.password === body.confirm, {
     message: 'The two passwords differ',
     path: ['confirm'],
   })
-export type AcceptInvitationBody = z.infer<typeof acceptInvitationSchema>
+export type NewPasswordBody = z.infer<typeof newPasswordSchema>
+
+/** POST /api/invitations/[token] */
+export const acceptInvitationSchema = newPasswordSchema
+export type AcceptInvitationBody = NewPasswordBody
 
 /** POST /api/auth/reset-request: the address to send a reset link to (the answer is the same whether it has an account). */
 export const resetRequestSchema = z.object({ email: emailSchema })
 export type ResetRequestBody = z.infer<typeof resetRequestSchema>
 
-/** POST /api/auth/reset/[token]: the new password, as on the invitation page. */
-export const resetPasswordSchema = acceptInvitationSchema
+/** POST /api/auth/reset/[token] */
+export const resetPasswordSchema = newPasswordSchema

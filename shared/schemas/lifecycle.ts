@@ -106,8 +106,16 @@ export interface TransitionAnswer {
   label: string | null
 }
 
+/** POST /api/packages/[id]/issue answers 202 with the job that renders and issues the package (GET /api/jobs/[id]). */
+export interface PackageIssueQueued {
+  jobId: number
+}
+
+/** The result of that job once done. */
 export interface PackageIssueAnswer {
   packageIssueId: number
+  label: string
+  pages: number
   issued: Array<{ sheetId: number; revisionId: number; label: string }>
   sha256: string
   fileName: string

@@ -3,6 +3,8 @@ import type { AttachmentView } from './attachments'
 import { z } from 'zod'
 import type { SheetStatus } from './sheet'
 import type { SheetDetail } from './sheets'
+import type { IssuePurpose } from './lifecycle'
+import type { RevisionSignature } from './revisions'
 import { plainText } from './text'
 
 /** GET /api/print/[token]: the render token of server/utils/render-token.ts. */
@@ -17,21 +19,18 @@ export interface PrintIssue {
   issuedAt: string
 }
 
-/** A signature as the PDF prints it: who, in which role, what it means, when (UTC), and whether it still holds. */
-export interface PrintSignature {
-  name: string
-  role: string
-  meaning: string
-  signedAt: string
-  holds: boolean
-}
+/** A signature as the PDF prints it: the history's own (who, role, meaning, UTC time, hash, whether it holds). */
+export type PrintSignature = RevisionSignature
 
 export interface PrintHistoryRow {
   index: number
   label: string | null
   status: SheetStatus
+  purpose: IssuePurpose | null
   createdAt: string
   preparedBy: string
+  editedBy: string
+  editedAt: string
 }
 
 export interface PrintSheet extends SheetDetail {
@@ -59,4 +58,38 @@ export function sheetPdfFileName(sheetNumber: string, revision: { index: number;
 /** `NWD-214_P01_rev-A.pdf`: project number, package number, the revision label of the issue. */
 export function packagePdfFileName(projectNumber: string, packageNumber: string, label: string | null): string {
   return `${fileSafe(projectNumber)}_${fileSafe(packageNumber)}${label ? `_rev-${fileSafe(label)}` : '_preview'}.pdf`
+}
+
+/** One sheet in a package's index: where it starts and ends in the package PDF (pages counted from the cover's first). */
+export interface PrintCoverEntry {
+  number: string
+  title: string
+  loopTag: string
+  /** The revision label the sheet carries in this package (new with it, or already issued). */
+  label: string
+  /** True when the sheet is issued with this package; false when it is carried at an earlier issue. */
+  newInPackage: boolean
+  firstPage: number
+  lastPage: number
+}
+
+/** The cover sheet (transmittal) of a package, as the package print view (/packages/[id]/print) draws it. */
+export interface PrintCover {
+  firm: { name: string; paperSize: 'A4' | 'Letter' | 'A3' }
+  projectNumber: string
+  projectName: string
+  clientName: string
+  packageNumber: string
+  packageTitle: string
+  /** The package's revision label of this issue. */
+  label: string
+  purpose: string
+  issuedBy: string
+  /** ISO 8601, UTC. */
+  issuedAt: string
+  recipients: Array<{ name: string; email: string }>
+  index: PrintCoverEntry[]
+  /** Pages of the cover itself, and of the whole package. */
+  coverPages: number
+  totalPages: number
 }

@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import type { SheetStatus } from './sheet'
 import type { PersonRef } from './sheets'
+import type { IssuePurpose } from './lifecycle'
 
 /**
  * A sheet's revision history, the difference between two of its revisions, and the checker's recomputation
@@ -17,6 +18,17 @@ const revisionIndexText = z
 export const revisionDiffQuerySchema = z.object({ from: revisionIndexText, to: revisionIndexText }).strict()
 export type RevisionDiffQuery = z.output<typeof revisionDiffQuerySchema>
 
+/** A signature as the history and the print view show it: who, in which role, what it means, when (UTC), over what. */
+export interface RevisionSignature {
+  name: string
+  role: string
+  meaning: string
+  signedAt: string
+  /** The SHA-256 the signature binds to; `holds` while the revision's document still hashes to it. */
+  contentHash: string
+  holds: boolean
+}
+
 export interface RevisionSummary {
   id: number
   index: number
@@ -29,10 +41,14 @@ export interface RevisionSummary {
   editedAt: string
   createdAt: string
   engineVersion: string
-  /** The purpose of issue, once the workflow records one (branch `flow`); null until then. */
-  purpose: string | null
-  /** Signatures, once the workflow records them (branch `flow`); empty until then. */
-  signatures: Array<{ name: string; role: string; meaning: string; signedAt: string; holds: boolean }>
+  /** SHA-256 of the RFC 8785 canonical JSON of the revision's document as stored now (what a signature binds to). */
+  contentHash: string
+  /** The purpose of issue; null until issued. */
+  purpose: IssuePurpose | null
+  issuedAt: string | null
+  issuedBy: PersonRef | null
+  /** Its signatures, oldest first, each with whether the stored document still hashes to it. */
+  signatures: RevisionSignature[]
   /** Comments not yet resolved; null for a client, who never sees comments. */
   openComments: number | null
   comments: number | null

@@ -70,7 +70,8 @@ export type SheetsQuery = z.output<typeof sheetsQuerySchema>
 export const mySheetsQuerySchema = listQuerySchema(sheetSortable).extend({
   q: plainText(200).optional().default(''),
   page: pageQuery,
-  mine: z.enum(['drafts', 'all']).optional().default('drafts'),
+  /** drafts: the ones still being written (draft, returned); ready: approved, waiting to be issued; all. */
+  mine: z.enum(['drafts', 'ready', 'all']).optional().default('drafts'),
 })
 export type MySheetsQuery = z.output<typeof mySheetsQuerySchema>
 
@@ -214,8 +215,8 @@ export const editableStatuses: readonly SheetStatus[] = ['draft', 'returned']
 export const clientVisibleStatuses: readonly SheetStatus[] = ['issued', 'superseded']
 
 /**
- * One row of GET /api/check-queue (branch matrix): a revision in check in a project where the signed-in person is a
- * checker member, oldest first, and whether they may check it: nobody checks what they prepared or edited.
+ * One row of GET /api/check-queue: a revision in check in a project where the signed-in person is a checker member,
+ * which they neither prepared nor edited (nobody checks their own work), the longest waiting first.
  */
 export interface CheckQueueRow {
   sheetId: number
@@ -227,9 +228,6 @@ export interface CheckQueueRow {
   projectId: number
   projectNumber: string
   preparedByName: string
-  /** When it went into check (the revision's last change until the workflow records the submission's own time). */
+  /** When it was submitted for check. */
   waitingSince: string
-  mayCheck: boolean
-  /** Why not, when `mayCheck` is false. */
-  reason: string | null
 }

@@ -40,7 +40,8 @@ interface StoredMessage {
 
 /** The one-time link of the newest invitation e-mailed to `email` (the mail sink of DEVELOPERS.md). */
 export async function invitationLink(email: string): Promise<string> {
-  for (let attempt = 0; attempt < 40; attempt++) {
+  // The outbox worker sends it, maybe behind other tests' mail: up to a minute.
+  for (let attempt = 0; attempt < 240; attempt++) {
     const messages = (await (await fetch(`${mailApiUrl()}/messages?to=${encodeURIComponent(email)}`)).json()) as StoredMessage[]
     const link = messages.map((message) => message.text.match(/https?:\/\/\S+\/invitation\/[\w-]+/)?.[0]).filter(Boolean).at(-1)
     if (link) return link

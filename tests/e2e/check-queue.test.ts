@@ -1,5 +1,6 @@
-// The checker's home page lists revisions waiting for their check, the longest waiting first, and says which are not
-// theirs to check (issue 8, item 10). Statuses and times are set in the database, as the workflow will set them.
+// The home pages' queues (issue 8, item 10): the checker's lists revisions waiting for their check, the longest waiting
+// since submission first, and never one they edited; the engineer's shows sheets returned to them first. Statuses,
+// times and editors are set in the database.
 import postgres from 'postgres'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
@@ -19,8 +20,11 @@ beforeAll(async () => {
   for (const [i, title] of titles.entries()) {
     const created = await api<{ id: number }>(cookie, `/api/projects/${project!.id}/sheets`, { method: 'POST', body: { title, loopTag: `LIC-214-5${i}` } })
     expect(created.status).toBe(201)
-    await sql`update sheet_revisions set status = 'in check', edited_at = ${since[i]!} where sheet_id = ${created.body.id}`
-    if (i === 2) await sql`update sheet_revisions set edited_by = ${checker!.id} where sheet_id = ${created.body.id}`
+    await sql`update sheet_revisions set status = 'in check', submitted_at = ${since[i]!} where sheet_id = ${created.body.id}`
+    if (i === 2) {
+      await sql`insert into revision_editors (revision_id, person_id)
+        select id, ${checker!.id} from sheet_revisions where sheet_id = ${created.body.id}`
+    }
   }
 })
 afterAll(async () => {
@@ -29,18 +33,44 @@ afterAll(async () => {
 })
 
 describe("the checker's home page", () => {
-  it('shows the queue oldest first, each saying whether it is theirs to check', async () => {
+  it('shows the queue oldest first, leaving out what the checker edited', async () => {
     const page = await chromium.newPage()
     await signIn(page, baseUrl(), 'henrik.salo@example.com', demoPassword)
     await page.waitForSelector('[data-testid=check-queue] li')
-    const rows = await page.$$eval('[data-testid=check-queue] li', (items) =>
-      items.map((item) => ({ text: (item as HTMLElement).innerText, mayCheck: item.querySelector('[data-may-check]')?.getAttribute('data-may-check') })),
-    )
-    const ours = rows.filter((row) => titles.some((title) => row.text.includes(title)))
-    expect(ours.map((row) => titles.find((title) => row.text.includes(title)))).toEqual([titles[1], titles[2], titles[0]])
-    expect(ours.map((row) => row.mayCheck)).toEqual(['true', 'false', 'true'])
-    expect(ours[1]!.text).toContain('Not yours: you edited this revision')
+    const rows = await page.$$eval('[data-testid=check-queue] li', (items) => items.map((item) => (item as HTMLElement).innerText))
+    const ours = rows.filter((text) => titles.some((title) => text.includes(title)))
+    expect(ours.map((text) => titles.find((title) => text.includes(title)))).toEqual([titles[1], titles[0]])
+    expect(ours[0]).toContain('prepared by Tomás Okafor')
     await screenshot(page, 'home-check-queue')
+    await page.close()
+  })
+})
+
+describe("the engineer's home page", () => {
+  it('shows sheets returned to them before their drafts, however long ago they were returned', async () => {
+    const cookie = await apiSignIn('tomas.okafor@example.com', demoPassword)
+    const [project] = await sql`select id from projects where number = 'NWD-214'`
+    const make = async (title: string) => {
+      const created = await api<{ id: number }>(cookie, `/api/projects/${project!.id}/sheets`, { method: 'POST', body: { title, loopTag: 'LIC-214-58' } })
+      expect(created.status).toBe(201)
+      return created.body.id
+    }
+    const returned = await make('Home: returned long ago')
+    await sql`update sheet_revisions set status = 'returned', edited_at = '2002-01-01T08:00:00Z' where sheet_id = ${returned}`
+    const fresh = await make('Home: fresh draft')
+    const page = await chromium.newPage()
+    await signIn(page, baseUrl(), 'tomas.okafor@example.com', demoPassword)
+    await page.waitForSelector('[data-testid=my-sheets] li')
+    const rows = await page.$$eval('[data-testid=my-sheets] li', (items) =>
+      items.map((item) => ({ id: Number(item.getAttribute('data-my-sheet')), status: item.querySelector('[data-sheet-status]')?.getAttribute('data-sheet-status') })),
+    )
+    const statuses = rows.map((row) => row.status)
+    expect(statuses.lastIndexOf('returned')).toBeLessThan(statuses.indexOf('draft'))
+    const ids = rows.map((row) => row.id)
+    expect(ids).toContain(returned)
+    expect(ids.indexOf(returned)).toBeLessThan(ids.indexOf(fresh))
+    expect(ids[statuses.indexOf('draft')]).toBe(fresh)
+    await screenshot(page, 'home-engineer-returned-first')
     await page.close()
   })
 })

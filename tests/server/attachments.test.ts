@@ -241,5 +241,19 @@ describe('who sees and changes attachments', () => {
     expect(still).toEqual({ name: 'step test.csv', sha256: sha256(csv) })
     expect(await rowsOf(sheet.id)).toBe(1)
     expect(await objectsOf(sheet.id)).toHaveLength(1)
+
+    // The next revision carries the file (same object); removing it from the draft keeps the issued one's.
+    const revised = await cast.engineer.post(`/api/sheets/${sheet.id}/revise`, { version: 1 })
+    expect(revised.status).toBe(200)
+    const carried = await cast.engineer.get(`/api/sheets/${sheet.id}/attachments`)
+    expect(carried.body.attachments.map((a: { name: string; sha256: string }) => [a.name, a.sha256])).toEqual([['step test.csv', sha256(csv)]])
+    const draftCopy = carried.body.attachments[0].id as number
+    expect(draftCopy).not.toBe(made.body.id)
+    expect((await cast.engineer.delete(`/api/attachments/${draftCopy}`)).status).toBe(200)
+    expect(await rowsOf(sheet.id)).toBe(1)
+    expect(await objectsOf(sheet.id)).toHaveLength(1)
+    const stillThere = await cast.client.get(`/api/attachments/${made.body.id}`)
+    expect(stillThere.status).toBe(200)
+    expect(Buffer.compare(stillThere.body, Buffer.from(csv))).toBe(0)
   })
 })

@@ -2,7 +2,7 @@
 // the change it records is rolled back. The fault is injected with plain SQL: a trigger on audit_events that
 // raises on inserting one action (a 500 is acceptable for this one injected server fault).
 import { afterEach, beforeAll, describe, expect, it } from 'vitest'
-import { database, demo, mailTo, signedIn, unique, type Client } from './support/client'
+import { database, demo, outboxRowsTo, signedIn, unique, type Client } from './support/client'
 import { Kit } from './support/routes'
 
 async function failAuditOf(action: string) {
@@ -67,12 +67,12 @@ describe('every write commits with its audit record, or not at all', () => {
     expect(row!.sheet_numbering).toBe(before.sheetNumbering)
   })
 
-  it('a person invited (and no e-mail sent for them)', async () => {
+  it('a person invited (and no e-mail queued for them: the outbox row rolls back with the person)', async () => {
     const email = `${unique('rb')}@example.com`
     await failAuditOf('person.invited')
     expect((await admin.post('/api/people/invite', { name: 'Rollback Sample', email, roles: ['engineer'] })).status).toBe(500)
     expect(await count(database()`select count(*)::int as n from people where email = ${email}`)).toBe(0)
-    expect(await mailTo(email)).toEqual([])
+    expect(await outboxRowsTo(email)).toEqual([])
   })
 
   it('a person changed', async () => {

@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, inject, it } from 'vitest'
-import { Client, database, demo, mailTo, signedIn, unique, type Client as ClientType } from './support/client'
+import { Client, database, demo, mailTo, outboxRowsTo, signedIn, unique, type Client as ClientType } from './support/client'
 
 describe('invitations', () => {
   let admin: ClientType
@@ -14,8 +14,11 @@ describe('invitations', () => {
     expect(invited.status).toBe(201)
     expect(invited.body).toMatchObject({ name: 'Ruth Anand', email, roles: ['checker'], status: 'invited' })
 
+    // Written to the outbox with the person (server/services/invitations.ts), delivered by its worker.
+    expect((await outboxRowsTo(email)).map((row) => row.kind)).toEqual(['person.invited'])
     const [message] = await mailTo(email)
     expect(message!.subject).toMatch(/choose a password/)
+    expect((await outboxRowsTo(email))[0]!.sent).toBe(true)
     const link = message!.text.match(new RegExp(`${inject('baseUrl').replace(/\./g, '\\.')}/invitation/([A-Za-z0-9_-]{43})\\s`))
     expect(link).not.toBeNull()
     const token = link![1]!
@@ -65,6 +68,7 @@ describe('invitations', () => {
   it('refuses a second account for the same address with 409', async () => {
     const answer = await admin.post('/api/people/invite', { name: 'Henrik Again', email: demo.checker, roles: ['checker'] })
     expect(answer.status).toBe(409)
+    expect(await outboxRowsTo(demo.checker, 'person.invited')).toEqual([])
   })
 
   it('refuses a bad invitation form with its field errors and creates nobody', async () => {

@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { database, newPerson, signedIn, unique, type Client } from './support/client'
+import { database, finishedJob, newPerson, signedIn, unique, type Client } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -73,8 +73,11 @@ describe('races', () => {
         expect((await cast.checker.post(`/api/sheets/${sheet.id}/approve`, { version: 1, password: demoPassword })).status).toBe(200)
       }
       const body = { purpose: 'review', password: demoPassword, sheets: sheets.map((sheet) => ({ sheetId: sheet.id, version: 1 })) }
+      // The second request finds the first one's job queued under the package's lock and is refused.
       const answers = await Promise.all([cast.engineer.post(`/api/packages/${made.body.id}/issue`, body), cast.engineer.post(`/api/packages/${made.body.id}/issue`, body)])
-      expect(statuses(answers)).toEqual([200, 409])
+      expect(statuses(answers)).toEqual([202, 409])
+      const queued = answers.find((answer) => answer.status === 202)!
+      expect((await finishedJob(cast.engineer, queued.body.jobId)).body.status).toBe('done')
       expect((await database()`select count(*)::int as n from package_issues where package_id = ${made.body.id}`)[0]!.n).toBe(1)
       expect((await database()`select count(*)::int as n from signatures s join sheet_revisions r on r.id = s.revision_id where r.sheet_id in ${database()(sheets.map((s) => s.id))} and s.meaning = 'issued'`)[0]!.n).toBe(2)
     }

@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, demo, newPerson, signedIn, unique } from './support/client'
+import { Client, database, demo, issuePackageAndWait, newPerson, signedIn, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -62,7 +62,7 @@ describe('the life of one sheet', () => {
     const [pdf] = await database()`select p.sha256, p.bytes, p.file_name from revision_pdfs p where p.revision_id = ${issued.body.revisionId}`
     expect(pdf!.sha256).toBe(createHash('sha256').update(pdf!.bytes).digest('hex'))
     expect(Buffer.from(pdf!.bytes).subarray(0, 5).toString()).toBe('%PDF-')
-    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/api/revisions/${issued.body.revisionId}/pdf%`}`
+    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/?revision=${issued.body.revisionId}\n%`}`
     expect(mailed!.n).toBe(1)
     const after = (await cast.client.get(`/api/sheets/${sheet.id}`)).body
     expect(after.lifecycle.signatures.map((s: { meaning: string; holds: boolean }) => [s.meaning, s.holds])).toEqual([['checked and approved', true], ['issued', true]])
@@ -184,14 +184,17 @@ describe('packages', () => {
     await approve(made.sheets[0]!.id)
     await approve(made.sheets[1]!.id)
     const body = { purpose: 'implementation', password: demoPassword, sheets: made.sheets.map((sheet) => ({ sheetId: sheet.id, version: 1 })) }
+    // Refused in the request itself, before any job is queued.
     const refused = await cast.engineer.post(`/api/packages/${made.id}/issue`, body)
     expect(refused.status).toBe(409)
+    expect(refused.body.data.reason).toMatch(/must be approved first/)
     const ids = made.sheets.map((sheet) => sheet.id)
     expect((await database()`select count(*)::int as n from sheet_revisions where sheet_id in ${database()(ids)} and status = 'issued'`)[0]!.n).toBe(0)
     await approve(made.sheets[2]!.id)
-    const issued = await cast.engineer.post(`/api/packages/${made.id}/issue`, body)
-    expect(issued.status).toBe(200)
-    expect(issued.body.issued.map((sheet: { label: string }) => sheet.label)).toEqual(['0', '0', '0'])
+    const issued = await issuePackageAndWait(cast.engineer, made.id, body)
+    expect(issued.request.status).toBe(202)
+    expect(issued.job!.body.status).toBe('done')
+    expect(issued.job!.body.result.issued.map((sheet: { label: string }) => sheet.label)).toEqual(['0', '0', '0'])
     expect((await database()`select count(*)::int as n from sheet_revisions where sheet_id in ${database()(ids)} and status = 'issued'`)[0]!.n).toBe(3)
     expect((await database()`select count(*)::int as n from package_issues where package_id = ${made.id}`)[0]!.n).toBe(1)
   })

@@ -4,7 +4,7 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, newPerson, signedIn, unique } from './support/client'
+import { Client, database, issuePackageAndWait, newPerson, signedIn, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -99,8 +99,8 @@ describe('GET /api/portal', () => {
     const inPackage = await newSheet(cast.engineer, cast.demoProjectId, { title: unique('Portal package sheet '), packageId: made.body.id })
     await act(cast.engineer, inPackage.id, 'submit', { version: 1 })
     await act(cast.checker, inPackage.id, 'approve', { version: 1, password: demoPassword })
-    const issued = await cast.engineer.post(`/api/packages/${made.body.id}/issue`, { purpose: 'information', password: demoPassword, sheets: [{ sheetId: inPackage.id, version: 1 }] })
-    expect(issued.status).toBe(200)
+    const issued = await issuePackageAndWait(cast.engineer, made.body.id, { purpose: 'information', password: demoPassword, sheets: [{ sheetId: inPackage.id, version: 1 }] })
+    expect(issued.job?.body.status).toBe('done')
     const project = (await cast.client.get('/api/portal')).body.projects.find((p: { id: number }) => p.id === cast.demoProjectId)
     const listed = project.packageIssues.find((p: { packageId: number }) => p.packageId === made.body.id)
     expect(listed).toMatchObject({ purpose: 'information', title: made.body.title ?? expect.any(String) })

@@ -3,6 +3,8 @@
 // the stored results read by SQL through the app's one formatter (app/utils/format.ts): the sheet's own print.
 import { beforeAll, describe, expect, it } from 'vitest'
 import { formatNumber } from '../../app/utils/format'
+import { demoPassword } from '../../scripts/demo-people'
+import { contentHash } from '../../server/utils/content-hash'
 import { database } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
@@ -13,10 +15,15 @@ beforeAll(async () => {
   cast = await theCast()
   const made = await newSheet(cast.engineer, cast.demoProjectId, { title: 'Booster discharge pressure', loopTag: 'PIC-214-01', template: 'pi-pressure-loop' })
   sheetId = made.id
-  // Revision 0 issued and revision 1 started from it, as the workflow's issue and revise will (branch flow).
-  await database()`update sheet_revisions set status = 'issued', label = 'A' where sheet_id = ${sheetId}`
-  await database()`insert into sheet_revisions (sheet_id, revision_index, status, document, version, result, engine_version, prepared_by, edited_by)
-    select sheet_id, 1, 'draft', document, 1, result, engine_version, prepared_by, edited_by from sheet_revisions where sheet_id = ${sheetId} and revision_index = 0`
+  // Revision 0 through its life (submit, approve, issue for review) and revision 1 started from it, by the routes.
+  const step = async (who: typeof cast.engineer, action: string, body: Record<string, unknown>) => {
+    const answer = await who.post(`/api/sheets/${sheetId}/${action}`, { version: 1, ...body })
+    expect(answer.status, `${action}: ${JSON.stringify(answer.body)}`).toBe(200)
+  }
+  await step(cast.engineer, 'submit', {})
+  await step(cast.checker, 'approve', { password: demoPassword })
+  await step(cast.engineer, 'issue', { purpose: 'review', password: demoPassword })
+  await step(cast.engineer, 'revise', {})
   const document = structuredClone(made.detail.revision.document)
   document.loop.parameters.Kc.value = 1.5
   document.loop.parameters.Kc.max = 1.8
@@ -37,6 +44,22 @@ describe('the revision history', () => {
     ])
     expect(answer.body.revisions[0].preparedBy.name).toBe('Tomás Okafor')
     expect(answer.body.revisions[0].openComments).toBe(0)
+  })
+
+  it('gives each revision its purpose, issuer and signatures, each holding while the content hashes to it', async () => {
+    const [draft, issued] = (await cast.checker.get(`/api/sheets/${sheetId}/revisions`)).body.revisions
+    expect(draft).toMatchObject({ purpose: null, issuedAt: null, issuedBy: null, signatures: [] })
+    expect(issued).toMatchObject({ purpose: 'review', issuedBy: { name: 'Tomás Okafor' } })
+    // The hash a signature binds to is the RFC 8785 canonical JSON's SHA-256 of the stored document (content-hash.ts).
+    const [stored] = await database()`select document, issued_at from sheet_revisions where sheet_id = ${sheetId} and revision_index = 0`
+    expect(issued.contentHash).toBe(contentHash(stored!.document))
+    expect(issued.issuedAt).toBe(new Date(stored!.issued_at).toISOString())
+    expect(issued.signatures.map((s: { name: string; role: string; meaning: string; holds: boolean; contentHash: string }) => [s.name, s.role, s.meaning, s.holds, s.contentHash])).toEqual([
+      ['Henrik Salo', 'checker', 'checked and approved', true, issued.contentHash],
+      ['Tomás Okafor', 'engineer', 'issued', true, issued.contentHash],
+    ])
+    // Revision 1's changed document is no revision 0: its hash differs, and it has no signature to hold.
+    expect(draft.contentHash).not.toBe(issued.contentHash)
   })
 
   it('shows a client the issued revisions only, without comment counts', async () => {

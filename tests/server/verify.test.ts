@@ -4,7 +4,7 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, unique } from './support/client'
+import { Client, database, issuePackageAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -98,12 +98,12 @@ describe('POST /api/verify', () => {
       await act(sheet.id, 'submit', { version: 1 })
       await act(sheet.id, 'approve', { version: 1, password: demoPassword })
     }
-    const issued = await cast.engineer.post(`/api/packages/${made.body.id}/issue`, {
+    const issued = await issuePackageAndWait(cast.engineer, made.body.id, {
       purpose: 'information',
       password: demoPassword,
       sheets: sheets.map((sheet) => ({ sheetId: sheet.id, version: 1 })),
     })
-    expect(issued.status).toBe(200)
+    expect(issued.job?.body.status).toBe('done')
     // The package's PDF as stored at issue, hashed here afresh from its bytes.
     const [stored] = await database()`select bytes from package_issues where package_id = ${made.body.id}`
     const answer = await verify(sha256(stored!.bytes))

@@ -7,7 +7,6 @@ export default defineEventHandler(async (event) => {
   const { user, sessionId } = await withRetryAfter(event, () =>
     signIn(useDb(), body, auditContext(event, null), {
       passwords: { verify: verifyPassword, hash: hashPassword },
-      send: sendMail,
       previousSessionId: previous.secure?.sessionId,
     }),
   )

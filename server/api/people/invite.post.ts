@@ -5,7 +5,7 @@ export default defineEventHandler(async (event) => {
   const admin = await requireRole(event, 'admin')
   const body = await readValidatedBody(event, parseWith(inviteSchema))
   const siteUrl = useRuntimeConfig().public.siteUrl || getRequestURL(event).origin
-  const person = await invitePerson(useDb(), body, auditContext(event, admin.id), { siteUrl, send: sendMail })
+  const person = await invitePerson(useDb(), body, auditContext(event, admin.id), siteUrl)
   setResponseStatus(event, 201)
   return person
 })

@@ -153,8 +153,12 @@ interface MailMessage {
   text: string
 }
 
+/** Every mail goes through the outbox, whose worker may have other tests' mail in hand: a minute before giving up. */
+const deliveryPolls = 600
+
+/** The messages the sink holds for `address`, once the first has arrived (none after a minute of waiting). */
 export async function mailTo(address: string): Promise<MailMessage[]> {
-  for (let attempt = 0; attempt < 50; attempt++) {
+  for (let attempt = 0; attempt < deliveryPolls; attempt++) {
     const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
     const messages = (await answer.json()) as MailMessage[]
     if (messages.length > 0) return messages
@@ -169,11 +173,20 @@ export async function mailWithSubject(address: string, subject: string, settleMs
     const answer = await fetch(`${inject('mailApiUrl')}/messages?to=${encodeURIComponent(address)}`)
     return ((await answer.json()) as MailMessage[]).filter((message) => message.subject === subject)
   }
-  for (let attempt = 0; attempt < 50 && (await read()).length === 0; attempt++) {
+  for (let attempt = 0; attempt < deliveryPolls && (await read()).length === 0; attempt++) {
     await new Promise((resolve) => setTimeout(resolve, 100))
   }
   await new Promise((resolve) => setTimeout(resolve, settleMs))
   return read()
+}
+
+/**
+ * The outbox rows to `address` (of `kind`, when given). Mail is written there in the transaction of the change it
+ * tells of, so no row means no mail, now or later: a test of "no mail" reads this instead of waiting on the sink.
+ */
+export async function outboxRowsTo(address: string, kind?: string) {
+  return database()<{ kind: string; subject: string; sent: boolean }[]>`select kind, subject, sent_at is not null as sent from outbox
+    where recipient = ${address} and (${kind ?? null}::text is null or kind = ${kind ?? null}) order by id`
 }
 
 /** Invites a person as the demo admin, accepts the invitation, and returns their id and password. */
@@ -193,4 +206,25 @@ export async function newPerson(
   const accepted = await new Client().post(`/api/invitations/${token}`, { password, confirm: password })
   if (accepted.status !== 204) throw new Error(`accepting answered ${accepted.status}`)
   return { id: invited.body.id, email, password, name }
+}
+
+/** A background job as GET /api/jobs/[id] shows it once it has finished (done or failed). */
+export async function finishedJob(client: Client, jobId: number, timeoutMs = 90_000): Promise<Answer> {
+  const deadline = Date.now() + timeoutMs
+  for (;;) {
+    const answer = await client.get(`/api/jobs/${jobId}`)
+    if (answer.status !== 200 || answer.body.status === 'done' || answer.body.status === 'failed') return answer
+    if (Date.now() > deadline) throw new Error(`job ${jobId} had not finished after ${timeoutMs} ms: ${JSON.stringify(answer.body)}`)
+    await new Promise((resolve) => setTimeout(resolve, 100))
+  }
+}
+
+/**
+ * POST /api/packages/[id]/issue and, when it is queued (202), the job it started waited for: the answer of the
+ * request (a refusal as it came) and, once queued, the finished job (its `result` the package issue).
+ */
+export async function issuePackageAndWait(client: Client, packageId: number, body: unknown): Promise<{ request: Answer; job: Answer | null }> {
+  const request = await client.post(`/api/packages/${packageId}/issue`, body)
+  if (request.status !== 202) return { request, job: null }
+  return { request, job: await finishedJob(client, request.body.jobId) }
 }

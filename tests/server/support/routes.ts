@@ -6,7 +6,7 @@ import { createHash } from 'node:crypto'
 import type { Role } from '../../../shared/schemas/roles'
 import { demoPassword } from '../../../scripts/demo-people'
 import { uploadStepTest } from './step-tests'
-import { Client, database, demo, formWith, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
+import { Client, database, demo, formWith, issuePackageAndWait, mailTo, mailWithSubject, newPerson, signedIn, unique } from './client'
 
 /** Who calls: signed out, or signed in as the demo person of one role. */
 export const callers = ['signedOut', 'admin', 'engineer', 'checker', 'client'] as const
@@ -370,8 +370,8 @@ export class Kit {
     return this.once('package issue', async () => {
       const made = await this.approvedPackage()
       const password = this.place === 'elsewhere' ? (await this.other()).passwords.engineer : demoPassword
-      const issued = await (await this.engineer()).post(`/api/packages/${made.id}/issue`, { purpose: 'information', password, sheets: made.sheets })
-      if (issued.status !== 200) throw new Error(`issuing a sample package answered ${issued.status}: ${JSON.stringify(issued.body)}`)
+      const issued = await issuePackageAndWait(await this.engineer(), made.id, { purpose: 'information', password, sheets: made.sheets })
+      if (issued.job?.body.status !== 'done') throw new Error(`issuing a sample package answered ${issued.request.status}: ${JSON.stringify(issued.job?.body ?? issued.request.body)}`)
       const [row] = await database()`select id from package_issues where package_id = ${made.id}`
       return row!.id as number
     })
@@ -718,7 +718,8 @@ export const routes: RouteRow[] = [
     method: 'POST',
     route: '/api/packages/[id]/issue',
     scope: 'project',
-    expect: { signedOut: 401, admin: 403, engineer: 200, checker: 403, client: 403 },
+    // 202: the render and the issue are a job (GET /api/jobs/[id]).
+    expect: { signedOut: 401, admin: 403, engineer: 202, checker: 403, client: 403 },
     prepare: async (kit) => {
       const made = await kit.approvedPackage()
       return { params: { id: String(made.id) }, body: { purpose: 'information', password: demoPassword, sheets: made.sheets } }
@@ -870,6 +871,13 @@ export const routes: RouteRow[] = [
     // The PDF renderer's own route: only a render token its process made opens it, never a session.
     expect: everyone(403),
     prepare: async () => ({ params: { token: 'not-a-render-token.x' } }),
+  },
+  {
+    method: 'GET',
+    route: '/api/package-print/[token]',
+    // The package cover's data for the PDF renderer: only a cover token of its own process, never a session.
+    expect: everyone(403),
+    prepare: async () => ({ params: { token: 'not-a-cover-token' } }),
   },
 ]
 

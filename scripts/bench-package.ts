@@ -1,0 +1,85 @@
+/**
+ * A 20-sheet package issued through the app (issue 9, "Fast, and measured"), run by `npm run bench` after the sheet's
+ * PDF. The built app (.output, scripts/setup) on a database of its own (loopwright_bench, seeded with the demo data,
+ * dropped afterwards): a new package of 20 sheets made from the five templates of sheets/ in turn, each submitted and
+ * approved through the routes; one sheet preview rendered first so the browser is warm; then
+ * POST /api/packages/[id]/issue and GET /api/jobs/[id] polled every 50 ms until the job is done. Reported: the wall
+ * time from the request to the job seen done, the job's own time (created to finished, from its row), the pages, and
+ * the peak memory of the app with its Chromium (process tree from /proc every 25 ms; RSS summed over processes is an
+ * upper bound, as it counts shared pages in each; PSS divides them among their sharers).
+ * Targets: at most 10 s, under 600 MB. Exits 0 either way: it reports.
+ */
+import { cpus, loadavg } from 'node:os'
+import { instanceOf, start, stop } from '../tests/setup/app'
+import { demoPassword } from './demo-people'
+import { sampleTree } from './process-memory'
+
+const SHEETS = 20
+const TARGET_S = 10
+const TARGET_MB = 600
+const templates = ['pi-pressure-loop', 'integrating-level-loop', 'dead-time-flow-loop', 'cascade-loop', 'lead-motor-speed-loop']
+
+async function main() {
+  const running = await start(instanceOf('bench'))
+  const base = `http://127.0.0.1:${running.instance.appPort}`
+  const sampler = sampleTree(running.app.pid!)
+  try {
+    const session = async (email: string) => {
+      const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password: demoPassword }) })
+      if (!login.ok) throw new Error(`signing in as ${email} answered ${login.status}`)
+      const cookie = login.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ')
+      const call = async (method: string, path: string, body?: unknown) => {
+        const answer = await fetch(`${base}${path}`, { method, headers: { cookie, ...(body === undefined ? {} : { 'content-type': 'application/json' }) }, body: body === undefined ? undefined : JSON.stringify(body) })
+        const json = answer.headers.get('content-type')?.includes('json') ? await answer.json() : null
+        if (!answer.ok) throw new Error(`${method} ${path} answered ${answer.status}: ${JSON.stringify(json)}`)
+        return json as any
+      }
+      return Object.assign(call, { cookie })
+    }
+    const engineer = await session('tomas.okafor@example.com')
+    const checker = await session('henrik.salo@example.com')
+    const project = (await engineer('GET', '/api/projects?q=NWD-214')).items.find((p: any) => p.number === 'NWD-214')
+    const pack = await engineer('POST', `/api/projects/${project.id}/packages`, { title: `Bench package of ${SHEETS} sheets` })
+    const sheets: Array<{ sheetId: number; version: number }> = []
+    for (let i = 0; i < SHEETS; i++) {
+      const made = await engineer('POST', `/api/projects/${project.id}/sheets`, { template: templates[i % templates.length], title: `Bench sheet ${i + 1}`, loopTag: `TIC-990-${String(i + 1).padStart(2, '0')}`, packageId: pack.id })
+      await engineer('POST', `/api/sheets/${made.id}/submit`, { version: 1 })
+      await checker('POST', `/api/sheets/${made.id}/approve`, { version: 1, password: demoPassword })
+      sheets.push({ sheetId: made.id, version: 1 })
+    }
+    // A warm browser, as a running server has: one preview rendered and thrown away.
+    const first = await engineer('GET', `/api/sheets/${sheets[0]!.sheetId}`)
+    const preview = await fetch(`${base}/api/revisions/${first.revision.id}/pdf`, { headers: { cookie: engineer.cookie } })
+    if (!preview.ok) throw new Error(`the warm-up preview answered ${preview.status}`)
+    await preview.arrayBuffer()
+
+    const peakBefore = sampler.peak.rssKb
+    const t0 = performance.now()
+    const queued = await engineer('POST', `/api/packages/${pack.id}/issue`, { purpose: 'review', password: demoPassword, sheets })
+    let job: any
+    for (;;) {
+      job = await engineer('GET', `/api/jobs/${queued.jobId}`)
+      if (job.status === 'done' || job.status === 'failed') break
+      await new Promise((resolve) => setTimeout(resolve, 50))
+    }
+    const seconds = (performance.now() - t0) / 1000
+    await new Promise((resolve) => setTimeout(resolve, 100))
+    if (job.status !== 'done') throw new Error(`the package job failed: ${job.error}`)
+    const ownSeconds = (Date.parse(job.finishedAt) - Date.parse(job.createdAt)) / 1000
+    const mb = sampler.peak.rssKb / 1024
+    console.log(`\nPackage of ${SHEETS} sheets (every template of sheets/ in turn), POST /api/packages/[id]/issue to its job seen done, warm browser:`)
+    console.log(`  ${seconds.toFixed(2)} s (the job's own row: ${ownSeconds.toFixed(2)} s created to finished), ${job.result.pages} pages, ${job.attempts} attempt  ${seconds <= TARGET_S ? 'PASS' : 'FAIL'} (at most ${TARGET_S} s)`)
+    console.log(
+      `  peak memory of the app and its browser (${sampler.peak.processes} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(sampler.peak.pssKb / 1024).toFixed(0)} MiB; before the issue ${(peakBefore / 1024).toFixed(0)} MiB`,
+    )
+    console.log(`  largest processes at the peak (MiB RSS): ${sampler.peak.largest}`)
+    console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
+  } finally {
+    sampler.stop()
+    await stop(running)
+  }
+}
+
+main().catch((error) => {
+  console.log(`\nPackage benchmark could not run: ${error instanceof Error ? error.message : String(error)}`)
+})

@@ -1,0 +1,86 @@
+// The PDF of a package: the cover sheet (transmittal) printed by Chromium from the package print view
+// (/packages/[id]/print), then every sheet's own PDF, merged with pdf-lib, and "package page p of P" stamped at the
+// head of every page in a Noto face shipped with the app (embedded through @pdf-lib/fontkit; a standard 14 font
+// would not be embedded).
+import fontkit from '@pdf-lib/fontkit'
+import { PDFDocument, rgb } from 'pdf-lib'
+import { packagePdfFileName, type PrintCover, type PrintCoverEntry } from '../../shared/schemas/print'
+import { sha256Hex } from '../utils/content-hash'
+import { dropCoverToken, makeCoverToken } from '../utils/render-token'
+import { printAppPage, RenderError, type RenderedPdf } from './pdf-render'
+
+/** One sheet of the package, in the package's order, with its PDF (just rendered, or stored at an earlier issue). */
+export interface PackagePart extends Omit<PrintCoverEntry, 'firstPage' | 'lastPage'> {
+  bytes: Uint8Array
+}
+
+export type CoverFacts = Omit<PrintCover, 'index' | 'coverPages' | 'totalPages'>
+
+/** Where each part starts and ends when the cover takes `coverPages` pages. */
+function indexOf(parts: Array<PackagePart & { pages: number }>, coverPages: number): PrintCoverEntry[] {
+  let next = coverPages + 1
+  return parts.map(({ bytes: _bytes, pages, ...entry }) => {
+    const firstPage = next
+    next += pages
+    return { ...entry, firstPage, lastPage: next - 1 }
+  })
+}
+
+async function printCover(packageId: number, cover: PrintCover, blocked: string[]): Promise<PDFDocument> {
+  const token = makeCoverToken(cover)
+  try {
+    const printed = await printAppPage(`/packages/${packageId}/print?render=${encodeURIComponent(token)}`)
+    blocked.push(...printed.blockedRequests)
+    return await PDFDocument.load(printed.bytes)
+  } finally {
+    dropCoverToken(token)
+  }
+}
+
+// The stamp's place: the top margin of the print views (12 mm), right-aligned at the side margin (15 mm).
+const MM = 72 / 25.4
+const STAMP_SIZE_PT = 7.5
+const STAMP_COLOUR = rgb(0x23 / 255, 0x49 / 255, 0x4e / 255)
+
+/** The package's PDF; `font` is the Noto face to stamp with (the caller reads it from the server's assets). */
+export async function renderPackagePdf(packageId: number, facts: CoverFacts, parts: PackagePart[], font: Uint8Array): Promise<RenderedPdf> {
+  const loaded = await Promise.all(parts.map(async (part) => ({ part, pdf: await PDFDocument.load(part.bytes) })))
+  const counted = loaded.map(({ part, pdf }) => ({ ...part, pages: pdf.getPageCount() }))
+  // The index needs the cover's own length: print it for one page, and again if it came out longer.
+  let coverPages = 1
+  const blockedRequests: string[] = []
+  let cover: PDFDocument | undefined
+  for (let attempt = 0; attempt < 3; attempt++) {
+    const index = indexOf(counted, coverPages)
+    const totalPages = coverPages + counted.reduce((sum, part) => sum + part.pages, 0)
+    cover = await printCover(packageId, { ...facts, index, coverPages, totalPages }, blockedRequests)
+    if (cover.getPageCount() === coverPages) break
+    coverPages = cover.getPageCount()
+    cover = undefined
+  }
+  if (!cover) throw new RenderError('The cover sheet did not settle on a page count')
+
+  const merged = await PDFDocument.create()
+  merged.registerFontkit(fontkit)
+  for (const source of [cover, ...loaded.map(({ pdf }) => pdf)]) {
+    for (const page of await merged.copyPages(source, source.getPageIndices())) merged.addPage(page)
+  }
+  const face = await merged.embedFont(font, { subset: true })
+  const total = merged.getPageCount()
+  merged.getPages().forEach((page, index) => {
+    const text = `${facts.projectNumber} ${facts.packageNumber} · package page ${index + 1} of ${total}`
+    const { width, height } = page.getSize()
+    page.drawText(text, { x: width - 15 * MM - face.widthOfTextAtSize(text, STAMP_SIZE_PT), y: height - 7 * MM, size: STAMP_SIZE_PT, font: face, color: STAMP_COLOUR })
+  })
+
+  merged.setTitle(`${facts.projectNumber} package ${facts.packageNumber}: ${facts.packageTitle}`, { showInWindowTitleBar: true })
+  merged.setAuthor(`${facts.firm.name}; issued by ${facts.issuedBy}`)
+  merged.setSubject(`Calculation package ${facts.packageNumber}, revision ${facts.label}, issued ${facts.purpose}, project ${facts.projectNumber} for ${facts.clientName}`)
+  merged.setKeywords([facts.projectNumber, facts.packageNumber, `revision ${facts.label}`, ...parts.map((part) => part.number), 'calculation package'])
+  merged.setCreator('Loopwright print view (Chromium)')
+  merged.setProducer('Loopwright')
+  merged.setCreationDate(new Date(facts.issuedAt))
+  merged.setModificationDate(new Date(facts.issuedAt))
+  const bytes = Buffer.from(await merged.save())
+  return { bytes, sha256: sha256Hex(bytes), pages: total, fileName: packagePdfFileName(facts.projectNumber, facts.packageNumber, facts.label), blockedRequests }
+}
