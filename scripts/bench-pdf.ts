@@ -10,7 +10,8 @@
  *     shared pages among their sharers and is printed beside it.
  * Targets: a sheet in at most 0.5 s, the app with its browser under 600 MB. Exits 0 either way: it reports.
  */
-import { readFileSync, readdirSync } from 'node:fs'
+import { readFileSync } from 'node:fs'
+import { processTree, sumKb } from './process-memory'
 import { cpus, loadavg } from 'node:os'
 import { instanceOf, start, stop } from '../tests/setup/app'
 import { demoPassword } from './demo-people'
@@ -25,39 +26,6 @@ const median = (xs: number[]) => {
   const s = [...xs].sort((a, b) => a - b)
   const m = s.length >> 1
   return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2
-}
-
-/** The process and all its descendants, from the parent pid in /proc/PID/stat. */
-function processTree(root: number): number[] {
-  const children = new Map<number, number[]>()
-  for (const entry of readdirSync('/proc')) {
-    if (!/^\d+$/.test(entry)) continue
-    try {
-      const stat = readFileSync(`/proc/${entry}/stat`, 'utf8')
-      // The command name, in parentheses, may hold spaces: the fields after its closing one are split.
-      const parent = Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1])
-      children.set(parent, [...(children.get(parent) ?? []), Number(entry)])
-    } catch {
-      // the process ended while being read
-    }
-  }
-  const tree = [root]
-  for (let i = 0; i < tree.length; i++) tree.push(...(children.get(tree[i]!) ?? []))
-  return tree
-}
-
-/** Kilobytes of `field` (VmRSS of status, Pss of smaps_rollup) summed over the processes; ended ones count 0. */
-function sumKb(pids: number[], file: 'status' | 'smaps_rollup', field: string): number {
-  let total = 0
-  for (const pid of pids) {
-    try {
-      const match = readFileSync(`/proc/${pid}/${file}`, 'utf8').match(new RegExp(`^${field}:\\s+(\\d+) kB`, 'm'))
-      total += match ? Number(match[1]) : 0
-    } catch {
-      // ended
-    }
-  }
-  return total
 }
 
 /** What a process of the tree is: the app, or Chromium's browser process, or the --type= of one of its others. */
