@@ -123,7 +123,18 @@ function forgetTabs() {
   context = null
 }
 
-async function openTab(browser: Browser, origin: string): Promise<Tab> {
+// Tabs are opened one at a time. Measured here: two windows opened at once in a fresh headless Chromium can land
+// in one window, one of them hidden (document.visibilityState "hidden"), and a hidden tab gets no animation frames,
+// so its print view never says it is ready (the first renders after a restart failed so; opened in turn, every
+// window was visible in every try).
+let opening: Promise<unknown> = Promise.resolve()
+function openTab(browser: Browser, origin: string): Promise<Tab> {
+  const opened = opening.then(() => openTabNow(browser, origin))
+  opening = opened.catch(() => {})
+  return opened
+}
+
+async function openTabNow(browser: Browser, origin: string): Promise<Tab> {
   context ??= browser.createBrowserContext()
   const shared = await context.catch((error: unknown) => {
     context = null
@@ -209,7 +220,12 @@ function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, le
     try {
       if (leavesApp) tab.warm = false
       await open(tab)
-      await Promise.race([page.waitForSelector(readySelector, { timeout: READY_TIMEOUT_MS }), refused])
+      await Promise.race([
+        page.waitForSelector(readySelector, { timeout: READY_TIMEOUT_MS }).catch(async (error: unknown) => {
+          throw new RenderError(`The print view was not ready within ${READY_TIMEOUT_MS / 1000} s (${await pageState(page)})`, { cause: error })
+        }),
+        refused,
+      ])
       const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, timeout: READY_TIMEOUT_MS })
       tab.warm = !leavesApp
       return { bytes, blockedRequests: [...tab.blocked] }
@@ -217,6 +233,22 @@ function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, le
       tab.onRefused = null
     }
   })
+}
+
+/** What a tab showed when its print view was not ready, in a few words, for the render's error. */
+async function pageState(page: Page): Promise<string> {
+  const state = await page
+    .evaluate(`(() => {
+      const view = document.querySelector('.lw-print')
+      return {
+        url: location.pathname,
+        view: view ? view.getAttribute('data-print-ready') : null,
+        visibility: document.visibilityState,
+        text: (document.body?.innerText ?? '').replace(/\\s+/g, ' ').slice(0, 160),
+      }
+    })()`)
+    .catch((error: unknown) => ({ error: error instanceof Error ? error.message : String(error) }))
+  return JSON.stringify(state)
 }
 
 /** Prints the print view at `path` of this app (`/sheets/[id]/print?render=<token>`) in a warm tab. */

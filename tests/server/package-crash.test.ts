@@ -9,6 +9,7 @@ import { randomUUID } from 'node:crypto'
 import { openSync, readFileSync } from 'node:fs'
 import { fileURLToPath } from 'node:url'
 import postgres from 'postgres'
+import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { instanceOf } from '../setup/app'
@@ -21,6 +22,17 @@ const baseUrl = `http://127.0.0.1:${port}`
 const crashDatabase = new URL(inject('databaseUrl'))
 crashDatabase.pathname = '/loopwright_test_package_crash'
 const databaseUrl = crashDatabase.toString()
+// The server tests' object store, a bucket of this test's own (the seed attaches the demo step test to FIC-214-03).
+const store = inject('objectStore')
+const bucket = 'loopwright-test-package-crash'
+const storeEnv = {
+  NUXT_OBJECT_STORE_ENDPOINT: store.endpoint,
+  NUXT_OBJECT_STORE_REGION: store.region,
+  NUXT_OBJECT_STORE_BUCKET: bucket,
+  NUXT_OBJECT_STORE_ACCESS_KEY_ID: store.accessKeyId,
+  NUXT_OBJECT_STORE_SECRET_ACCESS_KEY: store.secretAccessKey,
+  NUXT_OBJECT_STORE_FORCE_PATH_STYLE: 'true',
+}
 let sql: postgres.Sql
 let app: ChildProcess | undefined
 
@@ -40,6 +52,7 @@ function env(chromium?: string): NodeJS.ProcessEnv {
   return {
     ...process.env,
     NUXT_DATABASE_URL: databaseUrl,
+    ...storeEnv,
     NUXT_SESSION_PASSWORD: readFileSync(`${root}.data/session-password`, 'utf8').trim(),
     NUXT_SMTP_HOST: '127.0.0.1',
     NUXT_SMTP_PORT: String(instanceOf('server').smtpPort),
@@ -122,24 +135,38 @@ let engineer: Awaited<ReturnType<typeof as>>
 
 beforeAll(async () => {
   await recreate(true)
-  const seedEnv = { ...process.env, NUXT_DATABASE_URL: databaseUrl }
-  execFileSync('node', ['--import', 'tsx', 'scripts/migrate.ts'], { cwd: root, env: seedEnv, stdio: 'ignore' })
-  execFileSync('node', ['--import', 'tsx', 'scripts/seed.ts'], { cwd: root, env: seedEnv, stdio: 'ignore' })
+  const s3 = new S3Client({
+    endpoint: store.endpoint,
+    region: store.region,
+    forcePathStyle: true,
+    credentials: { accessKeyId: store.accessKeyId, secretAccessKey: store.secretAccessKey },
+  })
+  await s3.send(new CreateBucketCommand({ Bucket: bucket })).catch(() => undefined)
+  s3.destroy()
+  const seedEnv = { ...process.env, NUXT_DATABASE_URL: databaseUrl, ...storeEnv }
+  // Piped, so a failing migration or seed shows its own message in the test's error.
+  execFileSync('node', ['--import', 'tsx', 'scripts/migrate.ts'], { cwd: root, env: seedEnv, stdio: 'pipe' })
+  execFileSync('node', ['--import', 'tsx', 'scripts/seed.ts'], { cwd: root, env: seedEnv, stdio: 'pipe' })
   sql = postgres(databaseUrl, { max: 2, onnotice: () => {} })
   title = `Crash test ${randomUUID().slice(0, 8)}`
   const [pack] = await sql`update packages set title = ${title} where number = 'P01' returning id`
   packageId = pack!.id
-  sheetIds = (await sql`select id from sheets where package_id = ${packageId} order by id`).map((row) => row.id as number)
+  // Each sheet's newest revision and its version (the seed saved FIC-214-03 again after fitting its step test).
+  const heads = await sql`select distinct on (s.id) s.id, r.version from sheets s join sheet_revisions r on r.sheet_id = s.id
+    where s.package_id = ${packageId} order by s.id, r.revision_index desc`
+  sheetIds = heads.map((row) => row.id as number)
+  const versions = new Map(heads.map((row) => [row.id as number, row.version as number]))
   expect(sheetIds).toHaveLength(4)
   // A Chromium that cannot start: every render fails.
   await startApp('/nonexistent/chromium')
   engineer = await as(demo.engineer)
   const checker = await as(demo.checker)
   for (const id of sheetIds) {
-    expect((await engineer('POST', `/api/sheets/${id}/submit`, { version: 1 })).status).toBe(200)
-    expect((await checker('POST', `/api/sheets/${id}/approve`, { version: 1, password: demoPassword })).status).toBe(200)
+    const version = versions.get(id)!
+    expect((await engineer('POST', `/api/sheets/${id}/submit`, { version })).status).toBe(200)
+    expect((await checker('POST', `/api/sheets/${id}/approve`, { version, password: demoPassword })).status).toBe(200)
   }
-  body = { purpose: 'review', password: demoPassword, sheets: sheetIds.map((sheetId) => ({ sheetId, version: 1 })) }
+  body = { purpose: 'review', password: demoPassword, sheets: sheetIds.map((sheetId) => ({ sheetId, version: versions.get(sheetId)! })) }
 }, 120_000)
 
 afterAll(async () => {
