@@ -48,6 +48,8 @@ interface Reduced {
   tf: TransferFunction
   /** TeX name without the argument: G_{\mathrm{P}}, G_{1}, T_{2}, T. */
   name: string
+  /** The block's id when the node is one block, else null. */
+  block: string | null
 }
 
 /** Blocks in the order the structure first names them. */
@@ -126,7 +128,7 @@ export function reduceStructure(
       const b = blocks.get(node)!
       const tf = form === 'rational' ? b.rational : b.approximated
       if (outermost && wantSteps) steps.push({ kind: 'check', title: 'One block', tex: `T(s) = ${blockNameTex(node)}(s)`, text: `The structure is block ${node} alone.` })
-      return { tf, name: blockNameTex(node) }
+      return { tf, name: blockNameTex(node), block: node }
     }
     if ('series' in node) {
       const parts = node.series.map((n) => reduce(n, false))
@@ -145,7 +147,7 @@ export function reduceStructure(
           text: 'Elements in series multiply: the numerators together over the denominators together.',
         })
       }
-      return { tf, name }
+      return { tf, name, block: null }
     }
     if ('parallel' in node) {
       const parts = node.parallel.map((n) => reduce(n, false))
@@ -169,7 +171,7 @@ export function reduceStructure(
           text: 'Parallel paths add with their signs over the common denominator.',
         })
       }
-      return { tf, name }
+      return { tf, name, block: null }
     }
 
     const f = node.feedback
@@ -190,12 +192,15 @@ export function reduceStructure(
     if (wantSteps) {
       const op = loopSign === 1 ? '+' : '-'
       const title = name === 'T' ? 'closed loop T(s)' : `inner closed loop ${name.replace(/[{}_]/g, '')}`
-      const kindText = `${sign === -1 ? 'negative' : 'positive'} ${h ? '' : 'unity '}feedback`
+      const feedbackWords = sign === -1 ? 'negative' : 'positive'
+      const forward = pathWords(g)
       steps.push({
         kind: 'feedback',
         title: `Feedback: ${title}`,
         tex: h ? `${name}(s) = \\frac{${g.name}(s)}{1 ${op} ${g.name}(s)\\,${h.name}(s)}` : `${name}(s) = \\frac{${g.name}(s)}{1 ${op} ${g.name}(s)}`,
-        text: `The forward path ${g.name.replace(/[{}\\]|mathrm/g, '')} closed by ${h ? `the return path ${h.name.replace(/[{}\\]|mathrm/g, '')}` : 'unity'} with ${kindText}.`,
+        text: h
+          ? `The forward path${forward} closed with ${feedbackWords} feedback through ${pathWords(h).replace(/^,? ?|,$/g, '')} on the return path.`
+          : `The forward path${forward} closed with ${feedbackWords} unity feedback.`,
       })
       const [nG, dG] = [factorTex(g.tf.num, names), factorTex(g.tf.den, names)]
       const [nH, dH] = h ? [factorTex(h.tf.num, names), factorTex(h.tf.den, names)] : ['1', '1']
@@ -205,9 +210,10 @@ export function reduceStructure(
         tex: h
           ? `${name}(s) = \\frac{N_G D_H}{D_G D_H ${op} N_G N_H} = \\frac{${productTex([nG, dH])}}{${productTex([dG, dH])} ${op} ${productTex([nG, nH])}}`
           : `${name}(s) = \\frac{N_G}{D_G ${op} N_G} = \\frac{${nG}}{${dG} ${op} ${nG}}`,
+        // Plain words (calc-contract.md: `tex` holds the TeX, `text` the sentence); the symbols are the formula's own.
         text: h
-          ? 'With G = N_G/D_G and H = N_H/D_H, multiplying through by D_G·D_H leaves polynomials only.'
-          : 'With G = N_G/D_G and unity feedback, multiplying through by D_G leaves polynomials only.',
+          ? 'Each path written as numerator over denominator (N over D, with subscript G for the forward path and H for the return path), then multiplied through by both denominators: polynomials only.'
+          : 'The forward path written as numerator over denominator (N over D, with subscript G), then multiplied through by its denominator: polynomials only.',
       })
       steps.push({ kind: 'expansion', title: 'Expanded and collected in powers of s', tex: `${name}(s) = ${tfTex(tf)}`, text: 'Both polynomials multiplied out and collected in powers of s; no common factor is cancelled.' })
       const num = atValues(tf.num)
@@ -225,11 +231,19 @@ export function reduceStructure(
         text: orderText(tf, num, den),
       })
     }
-    return { tf, name }
+    return { tf, name, block: null }
   }
 
   const top = reduce(structure, true)
   return { closedLoop: top.tf, outer, steps }
+}
+
+/**
+ * A path of a feedback node in the words of a sentence, as the titles name it (G1, T1), or the block it is: the
+ * text of a step holds no TeX (its formula does). Answers the words with the space or commas that set them off.
+ */
+function pathWords(path: Reduced): string {
+  return path.block === null ? ` ${path.name.replace(/[{}_]/g, '')}` : `, block ${path.block},`
 }
 
 function orderText(tf: TransferFunction, num: number[], den: number[]): string {

@@ -176,6 +176,22 @@ describe('steps of the derivation', () => {
     expect(r.closedLoop.den.length - 1).toBe(4)
   })
 
+  it('writes the steps\' sentences in words, the TeX in their formulas only', () => {
+    for (const loop of [loops.cascade, loops.positive, loops.deadTime]) {
+      const { loop: file, parameters, blocks } = modelOf(loop)
+      for (const step of reduceStructure(file.structure, blocks, parameters).steps) expect(step.text, step.title).not.toMatch(/[\\_{}^$]/)
+    }
+    const { loop, parameters, blocks } = modelOf(loops.cascade)
+    const feedback = reduceStructure(loop.structure, blocks, parameters).steps.filter((step) => step.kind === 'feedback')
+    // The cascade's inner loop: C2 and V in series (G1) closed through block H; the outer loop (G2) by unity.
+    expect(feedback.map((step) => step.text)).toEqual([
+      'The forward path G1 closed with negative feedback through block H on the return path.',
+      'Each path written as numerator over denominator (N over D, with subscript G for the forward path and H for the return path), then multiplied through by both denominators: polynomials only.',
+      'The forward path G2 closed with negative unity feedback.',
+      'The forward path written as numerator over denominator (N over D, with subscript G), then multiplied through by its denominator: polynomials only.',
+    ])
+  })
+
   it('shows the positive-feedback sign in both feedback forms', () => {
     const { loop, parameters, blocks } = modelOf(loops.positive)
     const r = reduceStructure(loop.structure, blocks, parameters)

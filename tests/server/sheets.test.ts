@@ -39,7 +39,7 @@ describe('creating sheets', () => {
   it('starts a blank sheet as a draft at revision 0, version 1, computed by the server', async () => {
     const { id, detail } = await newSheet(engineer, projectId, { title: 'Blank start', loopTag: 'XIC-1-01' })
     expect(detail).toMatchObject({ id, projectId, projectNumber, title: 'Blank start', loopTag: 'XIC-1-01', packageId: null, canEdit: true, clientName: 'Northmere Water District' })
-    expect(detail.revision).toMatchObject({ index: 0, label: null, status: 'draft', version: 1, engineVersion: '1.0.0', preparedBy: { id: cast.ids.engineer, name: 'Tomás Okafor' } })
+    expect(detail.revision).toMatchObject({ index: 0, label: null, status: 'draft', version: 1, engineVersion: '1.0.1', preparedBy: { id: cast.ids.engineer, name: 'Tomás Okafor' } })
     expect(detail.revision.document.loop.title).toBe('Blank start')
     // K/(T s + 1) under unity feedback, K = 1, T = 10: T(s) = 0.1/(s + 0.2), one pole at −0.2 (by hand).
     expect(detail.revision.result.closed_loop.den).toEqual([1, 0.2])
