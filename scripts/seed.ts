@@ -139,12 +139,12 @@ try {
       name: 'Cobalt Ridge Engineering',
       sheetNumbering: '{project}-{seq:02}',
       paperSize: 'A4',
+      // The firm's own standing cautions (invented); the product's cautions print on every sheet anyway (product.md).
       defaultCautions: [
-        'This calculation supports, and never replaces, the judgement of the responsible licensed engineer.',
-        'Verify tuning on site under controlled conditions, with the process in a safe state.',
-        'A basic control loop is not a safety function: safety instrumented functions follow their own standards and local codes.',
-        'Confirm the fail-safe position of every final element.',
-        'Where local codes or licensed practice differ from this sheet, they govern.',
+        'Check the loop against the current revision of its loop drawing and the instrument index before any setting is changed; a tag, range or signal that differs stops the work until this sheet is revised.',
+        'Instrument ranges and engineering units are those of the instrument index at the date of this sheet: confirm them against the installed transmitter and the control system configuration.',
+        'Record the settings as found and as left on the loop’s commissioning record, signed by the commissioning engineer.',
+        'Send questions on this sheet through Cobalt Ridge document control, quoting the sheet number and revision.',
       ],
     })
     .onConflictDoNothing()

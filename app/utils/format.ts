@@ -1,6 +1,7 @@
 // THE number formatter of every calculation screen (style.md, "One way through"): significant
-// figures, the true minus sign, powers of ten past the readable range, the unit after the number,
-// and "none" where the result holds null, with the reason the engine gave in its warnings.
+// figures, the true minus sign, powers of ten past the readable range, the unit after the number (its powers
+// set as superscripts: formatUnit), and "none" where the result holds null, with the reason the engine gave in
+// its warnings.
 // Formulas are typeset by the engine (shared/calc/tex.ts) and drawn by app/components/calc/Tex.vue, never here.
 
 export interface NumberFormat {
@@ -42,7 +43,19 @@ function numberParts(value: number, digits: number): Parts {
 
 function unitAfter(text: string, unit: string | undefined) {
   if (!unit) return text
-  return unit === '°' || unit === '%' ? `${text}${unit}` : `${text}\u00a0${unit}`
+  return unit === '°' || unit === '%' ? `${text}${unit}` : `${text}\u00a0${formatUnit(unit)}`
+}
+
+/**
+ * A unit as typed by an engineer ("m2", "(m3/s)/%", "m^3/h", "s^-1"), as printed: a power written after a unit's
+ * letter, with or without ^, is set as a superscript (m², (m³/s)/%, m³/h, s⁻¹), the way SI units are written
+ * (BIPM SI Brochure, 9th ed., §5.4.6, from memory). Digits anywhere else are left as they are ("4-20 mA", "1/s").
+ * The one formatter of units on every screen and in print.
+ */
+export function formatUnit(unit: string): string {
+  return unit.replace(/(?<=[\p{L}°)])(?:\^(-?\d+)|\^\((-?\d+)\)|(\d+)(?![\p{L}\d.,]))/gu, (_, caret: string | undefined, bracketed: string | undefined, plain: string | undefined) =>
+    [...(caret ?? bracketed ?? plain)!].map((c) => SUPERSCRIPT[c]).join(''),
+  )
 }
 
 /** A number for a screen or the print page. */

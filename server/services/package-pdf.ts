@@ -5,6 +5,7 @@
 import fontkit from '@pdf-lib/fontkit'
 import { PDFDocument, rgb } from 'pdf-lib'
 import { packagePdfFileName, type PrintCover, type PrintCoverEntry } from '../../shared/schemas/print'
+import { issuedForWords } from '../../shared/schemas/lifecycle'
 import { sha256Hex } from '../utils/content-hash'
 import { dropCoverToken, makeCoverToken } from '../utils/render-token'
 import { printAppPage, RenderError, type RenderedPdf } from './pdf-render'
@@ -75,7 +76,7 @@ export async function renderPackagePdf(packageId: number, facts: CoverFacts, par
 
   merged.setTitle(`${facts.projectNumber} package ${facts.packageNumber}: ${facts.packageTitle}`, { showInWindowTitleBar: true })
   merged.setAuthor(`${facts.firm.name}; issued by ${facts.issuedBy}`)
-  merged.setSubject(`Calculation package ${facts.packageNumber}, revision ${facts.label}, issued ${facts.purpose}, project ${facts.projectNumber} for ${facts.clientName}`)
+  merged.setSubject(`Calculation package ${facts.packageNumber}, revision ${facts.label}, ${issuedForWords(facts.purpose)}, project ${facts.projectNumber} for ${facts.clientName}`)
   merged.setKeywords([facts.projectNumber, facts.packageNumber, `revision ${facts.label}`, ...parts.map((part) => part.number), 'calculation package'])
   merged.setCreator('Loopwright print view (Chromium)')
   merged.setProducer('Loopwright')

@@ -12,6 +12,7 @@ import { PDFDocument } from 'pdf-lib'
 import { useDb } from '../utils/db'
 import { makeRenderToken } from '../utils/render-token'
 import { sheetPdfFileName, type PrintIssue } from '../../shared/schemas/print'
+import { issuedForWords } from '../../shared/schemas/lifecycle'
 import { revisionDetail } from './sheets'
 
 export interface RenderedPdf {
@@ -311,7 +312,7 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   pdf.setAuthor(`${detail.firm.name}; prepared by ${revision.preparedBy.name}`)
   pdf.setSubject(
     issued
-      ? `Design calculation ${detail.number}, revision ${revision.label}${options.issue ? `, issued ${options.issue.purpose}` : ''}, project ${detail.projectNumber} for ${detail.clientName}`
+      ? `Design calculation ${detail.number}, revision ${revision.label}${options.issue ? `, ${issuedForWords(options.issue.purpose)}` : ''}, project ${detail.projectNumber} for ${detail.clientName}`
       : `Preliminary design calculation ${detail.number} (${revision.status}, not issued), project ${detail.projectNumber} for ${detail.clientName}`,
   )
   pdf.setKeywords([detail.projectNumber, detail.number, detail.loopTag, issued ? `revision ${revision.label}` : 'preliminary', 'control loop', 'design calculation'])

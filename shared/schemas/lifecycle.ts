@@ -23,6 +23,11 @@ export const issuePurposeNames: Record<IssuePurpose, string> = {
   review: 'For review',
   implementation: 'For implementation',
 }
+/** The purpose in the words of a sentence or a PDF's subject: "issued for implementation". */
+export function issuedForWords(purpose: IssuePurpose | string): string {
+  const words = issuePurposeNames[purpose as IssuePurpose] as string | undefined
+  return words ? `issued ${words.toLowerCase()}` : `issued for ${purpose}`
+}
 const purposeField = z.enum(issuePurposes, { errorMap: () => ({ message: 'Choose the purpose of issue' }) })
 
 /** POST /api/sheets/[id]/submit and /revise */
