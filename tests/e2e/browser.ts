@@ -96,3 +96,21 @@ export async function clearAndType(page: Page, selector: string, text: string) {
 export async function textOf(page: Page, selector: string) {
   return page.$eval(selector, (element) => (element as HTMLElement).innerText.trim())
 }
+
+/**
+ * TeX with the print view's line breaking taken out (app/utils/texBreak.ts: the aligned block, its row breaks,
+ * alignment marks and quads, a bracketed sum opened to fixed brackets) and every space: what the engine's TeX and a
+ * broken or written-out copy of it have in common, to find one inside the other.
+ */
+export function bareTex(tex: string) {
+  return tex
+    .replace(/\\(begin|end)\{aligned\}|\\\\|&|\\q?quad/g, '')
+    .replace(/\\(left|biggl)\(/g, '(')
+    .replace(/\\(right|biggr)\)/g, ')')
+    .replace(/\s+/g, '')
+}
+
+/** The TeX of every formula under `selector`, as KaTeX's MathML copies hold it, one after another. */
+export function typesetTexOf(page: Page, selector: string) {
+  return page.$$eval(`${selector} annotation`, (nodes) => nodes.map((node) => node.textContent ?? '').join(' '))
+}

@@ -9,7 +9,7 @@ import { demoPassword } from '../../scripts/demo-people'
 import { loopFileOf, sheetDocumentSchema, type SheetDocument } from '../../shared/schemas/sheet'
 import { closeLoopAround } from '../../app/utils/structureTree'
 import { api, apiSignIn, baseUrl } from './api'
-import { launchBrowser, screenshot, screenshotDir, signIn, textOf, type TestBrowser } from './browser'
+import { launchBrowser, screenshot, screenshotDir, signIn, textOf, typesetTexOf, bareTex, type TestBrowser } from './browser'
 
 const engineer = 'tomas.okafor@example.com'
 const templates = readdirSync(new URL('../../sheets/', import.meta.url)).filter((f) => f.endsWith('.json')).map((f) => f.replace(/\.json$/, ''))
@@ -166,7 +166,9 @@ describe('the sheet editor', () => {
     await openSheet(page, id)
     const junctions = () => page.$$eval('[data-testid=loop-diagram] [data-shape=junction]', (found) => found.length)
     expect(await junctions()).toBe(1)
-    const before = await page.$eval('[data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')
+    // T(s) as KaTeX's MathML copies hold it: one formula, or T(s) = N(s)/D(s) with N(s) and D(s) written out.
+    const symbolic = (settled = '') => typesetTexOf(page, `[data-testid=result]${settled} [data-testid=closed-loop-symbolic]`)
+    const before = await symbolic()
 
     // The plant P gets a loop of its own (a cascade's inner loop), and the actuator A moves inside it.
     await page.click('[data-path="forward.2"] > div > [data-action=close-loop]')
@@ -179,8 +181,12 @@ describe('the sheet editor', () => {
 
     const witness = await api<any>(cookie, '/api/calculate', { method: 'POST', body: { ...loopFileOf(document), structure: cascade } })
     expect(witness.status).toBe(200)
-    await page.waitForFunction((tex) => (window.document.querySelector('[data-testid=result][data-stale=false] [data-testid=closed-loop-symbolic] annotation')?.textContent ?? '').includes(tex), { timeout: 15_000 }, witness.body.closed_loop.den_tex)
-    expect(await page.$eval('[data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')).not.toBe(before)
+    const denominator = bareTex(witness.body.closed_loop.den_tex)
+    for (const deadline = Date.now() + 15_000; !bareTex(await symbolic('[data-stale=false]')).includes(denominator); ) {
+      if (Date.now() > deadline) throw new Error(`T(s) of the cascade did not appear: ${await symbolic()}`)
+      await new Promise((resolve) => setTimeout(resolve, 100))
+    }
+    expect(await symbolic()).not.toBe(before)
     expect(await textOf(page, '[data-testid=stability-verdict]')).toBe(verdictWords(witness.body.stability))
 
     await replaceText(page, 'scope', 'Discharge pressure of the booster header, with the pump speed as an inner loop.')

@@ -9,11 +9,12 @@ import type { Page } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword, demoPeople } from '../../scripts/demo-people'
 import { formatNumber } from '../../app/utils/format'
+import { READABLE_SCALE } from '../../app/utils/texWriteOut'
 import type { MySheetPage, SheetDetail, SheetPage } from '../../shared/schemas/sheets'
 import type { Page as ListPage } from '../../shared/schemas/lists'
 import type { ProjectRow } from '../../shared/schemas/projects'
 import { api, apiSignIn, baseUrl } from './api'
-import { clearAndType, launchBrowser, screenshot, screenshotDir, signIn, textOf, type TestBrowser } from './browser'
+import { clearAndType, launchBrowser, screenshot, screenshotDir, signIn, textOf, typesetTexOf, bareTex, type TestBrowser } from './browser'
 
 const engineer = demoPeople.find((person) => person.email === 'tomas.okafor@example.com')!
 const admin = demoPeople.find((person) => person.roles.includes('admin' as never))!
@@ -231,9 +232,9 @@ describe('the print view', () => {
       for (const caution of detail.body.firm.defaultCautions) expect(safety).toContain(caution)
       for (const note of detail.body.revision.document.safetyNotes) expect(safety).toContain(note)
       expect(safety).toContain('A basic control loop is not a safety function')
-      // T(s) in full, as the engine typeset it, in the MathML copy KaTeX keeps.
-      const typeset = await page.$eval('[data-section=stability] [data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')
-      expect(typeset).toContain(result.closed_loop.den_tex)
+      // T(s) in full, as the engine typeset it, in the MathML copies KaTeX keeps (written out as N(s) and D(s) where too wide).
+      const typeset = await typesetTexOf(page, '[data-section=stability] [data-testid=closed-loop-symbolic]')
+      expect(bareTex(typeset)).toContain(bareTex(result.closed_loop.den_tex))
       await screenshot(page, `print-${tag}-1280`)
 
       // As printed: the print media type, at the paper's width.
@@ -246,6 +247,14 @@ describe('the print view', () => {
       expect(measured.scrollWidth).toBeLessThanOrEqual(measured.clientWidth)
       const formulas = await page.$$eval('[data-section] [data-tex-fit]', (boxes) => boxes.length)
       expect(formulas).toBeGreaterThan(5)
+      // No derivation formula is shrunk below the readable floor (app/utils/texWriteOut.ts): a long one is written
+      // out instead. LIC-214-04's numerator and denominator forms are (measured: 0.63 and 0.65 before, unreadable).
+      const derivation = await page.$$eval('[data-section=derivation] [data-fitted-scale]', (boxes) =>
+        boxes.map((box) => ({ scale: Number(box.getAttribute('data-fitted-scale')), writtenOut: box.getAttribute('data-written-out') })),
+      )
+      expect(derivation.length).toBeGreaterThan(5)
+      for (const formula of derivation) expect(formula.scale).toBeGreaterThanOrEqual(READABLE_SCALE)
+      if (tag === 'LIC-214-04') expect(derivation.filter((formula) => formula.writtenOut).length).toBeGreaterThanOrEqual(2)
 
       // The PDF Chromium makes of the page: the title block and "page x of y" on every page.
       const pdf = await page.pdf({ preferCSSPageSize: true, printBackground: true })

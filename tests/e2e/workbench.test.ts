@@ -9,7 +9,7 @@ import { demoPassword } from '../../scripts/demo-people'
 import { formatNumber } from '../../app/utils/format'
 import { loopFileOf } from '../../shared/schemas/sheet'
 import { api, apiSignIn, baseUrl } from './api'
-import { launchBrowser, screenshot, signIn, textOf, type TestBrowser } from './browser'
+import { launchBrowser, screenshot, signIn, textOf, typesetTexOf, bareTex, type TestBrowser } from './browser'
 
 const engineer = 'tomas.okafor@example.com'
 const template = 'pi-pressure-loop'
@@ -62,9 +62,9 @@ describe('loop workbench', () => {
     await page.waitForSelector('[data-testid=result][data-stale=false]')
     expect(await page.$eval('[data-testid=loop-text]', (area) => JSON.parse((area as HTMLTextAreaElement).value))).toEqual(loop)
 
-    // T(s) typeset by KaTeX: its MathML annotation carries the TeX the engine gave.
-    const typeset = await page.$eval('[data-testid=closed-loop-symbolic] annotation', (node) => node.textContent ?? '')
-    expect(typeset).toContain(witness.body.closed_loop.den_tex)
+    // T(s) typeset by KaTeX: its MathML annotations carry the TeX the engine gave (written out as N(s) and D(s) where too wide).
+    const typeset = await typesetTexOf(page, '[data-testid=closed-loop-symbolic]')
+    expect(bareTex(typeset)).toContain(bareTex(witness.body.closed_loop.den_tex))
     expect(await page.$('[data-testid=closed-loop-symbolic] .katex-display')).not.toBeNull()
     expect(await textOf(page, '[data-testid=stability-verdict]')).toBe(witness.body.stability === 'stable' ? 'Stable' : witness.body.stability === 'marginal' ? 'Marginally stable' : 'Unstable')
     expect(await textOf(page, '[data-testid=dc-gain]')).toBe(formatNumber(witness.body.dc_gain))

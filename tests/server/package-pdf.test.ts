@@ -128,6 +128,12 @@ describe('a package issue', () => {
     expect(fonts.some((font) => /Helvetica|Times|Courier/.test(font.name))).toBe(false)
     const info = poppler('pdfinfo', path)
     expect(info).toMatch(new RegExp(`Title:\\s+NWD-214 package ${made.body.number}`))
+    expect(info).toMatch(/Subject:\s+Calculation package .*, issued for review, project NWD-214/)
+    // Each sheet's issue record (the one issued earlier carried with its own PDF) names its checker under a label like
+    // the others, never the bare role.
+    const text = pages.join('\n')
+    expect(text.match(/^\s*Checked by\s+Henrik Salo, checked and approved/gm)?.length).toBe(sheets.length)
+    expect(text).not.toMatch(/^\s*checker\s/m)
 
     // The client downloads it under the firm's name for it.
     const download = await cast.client.get(`/api/package-issues/${stored!.id}/pdf`)

@@ -12,6 +12,7 @@ import { createServer } from 'node:http'
 import type { AddressInfo } from 'node:net'
 import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { formatNumber } from '../../app/utils/format'
+import { productCautions } from '../../app/utils/cautions'
 import { database } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
@@ -175,6 +176,17 @@ describe('GET /api/revisions/[id]/pdf', () => {
         expect(bodyTextOf(path, page).length, `${row.loop_tag} page ${page}`).toBeGreaterThan(20)
         expect(markPixels(path, page), `${row.loop_tag} page ${page}`).toBeGreaterThan(100)
       }
+      const text = pages.join(' ').replace(/[\s\u00a0]+/g, ' ')
+      // Symbols print typeset (the steps' sentences, the tolerance corners), never as typed TeX: no G_1, N_G/D_G, K_c.
+      expect(text, row.loop_tag).not.toMatch(/[A-Za-z]_[A-Za-z0-9{]/)
+      // The corners' summary says how the criteria fare too, not only "all stable".
+      expect(text, row.loop_tag).not.toContain('all stable')
+      expect(text, row.loop_tag).toMatch(/stable at every corner|not stable/)
+      // Each of product.md's cautions once (the seed's firm cautions are the firm's own; a repeated one is left out).
+      for (const caution of productCautions) expect(text.split(caution).length - 1, `${row.loop_tag}: ${caution}`).toBe(1)
+      // Units as printed: a power after a unit's letter as a superscript (the level template's m² and (m³/s)/%).
+      expect(text, row.loop_tag).not.toMatch(/\bm[23]\b/)
+      if (row.loop_tag === 'LIC-214-02') for (const unit of ['m²', '(m³/s)/%']) expect(text).toContain(unit)
     }
   })
 
