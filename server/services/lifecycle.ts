@@ -52,7 +52,7 @@ import { recordAuditEvent, type AuditContext } from './audit-trail'
 import type { Executor, Transaction } from './audited'
 import { readFirmSettings } from './firm'
 import { queueMail, type QueuedMail } from './outbox'
-import { refused, viewSheet, type Refused } from './sheets'
+import { newestIssuedRevision, refused, viewSheet, type Refused } from './sheets'
 import type { PdfRenderer } from './issue-pdf'
 import { enqueueJob, JobFailure, type JobContext } from './jobs'
 import type { CoverFacts, PackagePart } from './package-pdf'
@@ -158,7 +158,8 @@ async function projectRolesOf(db: Executor, projectId: number, personId: number)
 }
 
 /** The sheet and its current revision; under the sheet's and the revision's row locks when `lock` (in a transaction). */
-async function loadState(db: Executor, sheetId: number, lock: boolean) {
+/** The sheet and its current revision (or the revision at `revisionIndex`, to read), with the facts canDo weighs. */
+async function loadState(db: Executor, sheetId: number, lock: boolean, revisionIndex?: number) {
   const sheetQuery = db
     .select({ id: sheets.id, projectId: sheets.projectId, number: sheets.number, title: sheets.title, loopTag: sheets.loopTag, currentIndex: sheets.currentRevisionIndex })
     .from(sheets)
@@ -168,7 +169,7 @@ async function loadState(db: Executor, sheetId: number, lock: boolean) {
   const revisionQuery = db
     .select()
     .from(sheetRevisions)
-    .where(and(eq(sheetRevisions.sheetId, sheetId), eq(sheetRevisions.revisionIndex, sheet.currentIndex)))
+    .where(and(eq(sheetRevisions.sheetId, sheetId), eq(sheetRevisions.revisionIndex, revisionIndex ?? sheet.currentIndex)))
   const [revision] = lock ? await revisionQuery.for('update') : await revisionQuery
   if (!revision) return null
   const [editors, signed, openComments] = await Promise.all([
@@ -180,7 +181,7 @@ async function loadState(db: Executor, sheetId: number, lock: boolean) {
   const approval = signed.find((signature) => signature.meaning === 'checked and approved')
   const facts: RevisionFacts = {
     status: revision.status as SheetStatus,
-    isCurrent: true,
+    isCurrent: revision.revisionIndex === sheet.currentIndex,
     preparedBy: revision.preparedBy,
     editors: editors.map((row) => row.personId),
     hasResult: revision.result !== null,
@@ -204,10 +205,20 @@ function signatureViews(state: Pick<State, 'signed' | 'hash'>): SignatureView[] 
   }))
 }
 
-/** The lifecycle part of GET /api/sheets/[id], for `viewer`. */
-export async function lifecycleView(db: Database, sheetId: number, viewer: Viewer): Promise<LifecycleView | null> {
-  const state = await loadState(db, sheetId, false)
+/**
+ * The lifecycle part of GET /api/sheets/[id], for `viewer`: of the current revision, or of the one at `revisionIndex`.
+ * `issuedOnly` (a client's view) reads the sheet as ending at its newest issued revision: that one is current to
+ * them, and no answer says that a later revision exists.
+ */
+export async function lifecycleView(
+  db: Database,
+  sheetId: number,
+  viewer: Viewer,
+  shown: { revisionIndex?: number; issuedOnly?: boolean } = {},
+): Promise<LifecycleView | null> {
+  const state = await loadState(db, sheetId, false, shown.revisionIndex)
   if (!state) return null
+  if (shown.issuedOnly) state.facts.isCurrent = state.revision.revisionIndex === (await newestIssuedRevision(db, sheetId))?.index
   const person = { ...viewer, projectRoles: await projectRolesOf(db, state.sheet.projectId, viewer.id) }
   const [pdf] = await db.select({ id: revisionPdfs.revisionId }).from(revisionPdfs).where(eq(revisionPdfs.revisionId, state.revision.id))
   return {

@@ -11,12 +11,13 @@ import { projectAccess, refused, type Refused, type Viewer } from './sheets'
 
 const packageIdColumn = sql.raw('"packages"."id"')
 
+// A client counts the sheets issued at least once: a sheet whose next revision is being written still counts.
 function sheetCount(clientView: boolean) {
   const visible = clientView
-    ? sql` and s.current_status in (${sql.join(
+    ? sql` and exists (select 1 from sheet_revisions r where r.sheet_id = s.id and r.status in (${sql.join(
         clientVisibleStatuses.map((status) => sql`${status}`),
         sql`, `,
-      )})`
+      )}))`
     : sql``
   return sql<number>`(select count(*)::int from sheets s where s.package_id = ${packageIdColumn}${visible})`
 }

@@ -641,7 +641,8 @@ export const routes: RouteRow[] = [
     method: 'GET',
     route: '/api/sheets/[id]',
     scope: 'project',
-    // A draft: a client never sees one (product.md).
+    // A draft: a client never sees one (product.md). A sheet issued once and revised since opens to the client at its
+    // issued revision: tests/server/client-revision-view.test.ts.
     expect: { signedOut: 401, admin: 200, engineer: 200, checker: 200, client: 403 },
     prepare: async (kit) => ({ params: { id: String((await kit.sampleSheet()).id) } }),
   },
