@@ -2,7 +2,7 @@
 // template, or a copy), the sheet with its current revision, and saves that recompute through the engine.
 // Who may do what (product.md, "Who uses it"): admins and project members read; engineers who are members create
 // and save drafts (and returned sheets); checkers read; clients see only issued revisions, never a draft.
-import { and, asc, desc, eq, ilike, inArray, ne, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, ilike, inArray, isNotNull, ne, or, sql, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/pg-core'
 import { createError } from 'h3'
 import { organisations, packages, people, projectMembers, projects, revisionEditors, sheetRevisions, sheets } from '../db/schema'
@@ -116,31 +116,21 @@ function badField(field: string, message: string): never {
 const current = alias(sheetRevisions, 'current')
 const editor = alias(people, 'editor')
 
-/**
- * The index of the sheet's newest revision a client may see (issued, or superseded), null when there is none: while
- * an engineer writes the next revision, the client's sheet is still the one last issued (product.md, "A sheet's
- * life"), and nothing of the draft reaches them. Read through sheet_revisions_sheet_index.
- */
-const newestIssuedIndex = sql<number | null>`(select max(r.revision_index) from ${sheetRevisions} r where r.sheet_id = ${sheets.id} and r.status in (${sql.join(
-  clientVisibleStatuses.map((status) => sql`${status}`),
-  sql`, `,
-)}))`
-
-// Staff read the current revision's copy on `sheets` (sheets.current_*, kept by a trigger: schema.ts); a client the
-// newest issued revision's own columns (`current` joined at newestIssuedIndex), so a sheet under revision shows as
-// last issued.
+// Staff read the current revision's copy on `sheets` (sheets.current_*); a client the newest issued revision's
+// (sheets.issued_*, null on a sheet never issued), so a sheet whose next revision is being written lists as last
+// issued and nothing of the draft shows. Both copies are kept by triggers on sheet_revisions (schema.ts).
 function rowColumnsFor(drafts: boolean) {
   return {
     id: sheets.id,
     number: sheets.number,
     title: sheets.title,
     loopTag: sheets.loopTag,
-    status: drafts ? sheets.currentStatus : current.status,
-    revisionIndex: drafts ? sheets.currentRevisionIndex : current.revisionIndex,
-    revisionLabel: drafts ? sheets.currentRevisionLabel : current.label,
+    status: drafts ? sheets.currentStatus : sql<string>`${sheets.issuedStatus}`,
+    revisionIndex: drafts ? sheets.currentRevisionIndex : sql<number>`${sheets.issuedRevisionIndex}`,
+    revisionLabel: drafts ? sheets.currentRevisionLabel : sheets.issuedRevisionLabel,
     packageId: sheets.packageId,
     packageNumber: packages.number,
-    updatedAt: drafts ? sheets.currentEditedAt : current.editedAt,
+    updatedAt: drafts ? sheets.currentEditedAt : sql<Date>`${sheets.issuedEditedAt}`.mapWith(sheets.issuedEditedAt),
     updatedByName: editor.name,
   }
 }
@@ -191,26 +181,21 @@ export async function listProjectSheets(db: Database, projectId: number, query: 
   if (!access.read) return refused('You are not a member of this project', { projectId })
   const columns = rowColumnsFor(access.drafts)
   const filters = [eq(sheets.projectId, projectId), searchOf(query.q)]
-  if (query.status) filters.push(eq(columns.status, query.status))
+  if (query.status) filters.push(sql`${columns.status} = ${query.status}`)
   if (query.packageId) filters.push(eq(sheets.packageId, query.packageId))
+  if (!access.drafts) filters.push(isNotNull(sheets.issuedRevisionIndex))
   const where = and(...filters)
-  // A client's rows are the sheets with an issued revision: the inner join finds none for a sheet never issued.
-  const shown = and(eq(current.sheetId, sheets.id), eq(current.revisionIndex, newestIssuedIndex))
-  const rowsQuery = db.select(columns).from(sheets).$dynamic()
-  const countQuery = db.select({ total: sql<number>`count(*)::int` }).from(sheets).$dynamic()
-  if (!access.drafts) {
-    rowsQuery.innerJoin(current, shown)
-    countQuery.innerJoin(current, shown)
-  }
   const [rows, [counted]] = await Promise.all([
-    rowsQuery
-      .innerJoin(editor, eq(editor.id, access.drafts ? sheets.currentEditedBy : current.editedBy))
+    db
+      .select(columns)
+      .from(sheets)
+      .innerJoin(editor, eq(editor.id, access.drafts ? sheets.currentEditedBy : sheets.issuedEditedBy))
       .leftJoin(packages, eq(packages.id, sheets.packageId))
       .where(where)
       .orderBy(...orderOf(query, columns))
       .limit(query.pageSize)
       .offset((query.page - 1) * query.pageSize),
-    countQuery.where(where),
+    db.select({ total: sql<number>`count(*)::int` }).from(sheets).where(where),
   ])
   return { items: rows.map(toRow), total: counted?.total ?? 0, page: query.page, pageSize: query.pageSize }
 }

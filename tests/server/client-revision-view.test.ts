@@ -112,3 +112,22 @@ describe('a client and a sheet whose next revision is a draft', () => {
     expect(listed.body.items[0]).toMatchObject({ status: 'draft', revisionIndex: 1 })
   })
 })
+
+describe('the draft issued in turn', () => {
+  it('becomes the client’s sheet at revision B, A superseded, in the sheet and the list', async () => {
+    const version = (await cast.engineer.get(`/api/sheets/${sheet.id}`)).body.revision.version
+    await act(cast.engineer, 'submit', { version })
+    await act(cast.checker, 'approve', { version, password: demoPassword })
+    await act(cast.engineer, 'issue', { version, purpose: 'review', password: demoPassword })
+    const answer = await cast.client.get(`/api/sheets/${sheet.id}`)
+    expect(answer.body.revision).toMatchObject({ id: draft.id, index: 1, label: 'B', status: 'issued' })
+    expect(answer.body.revision.document.scope).toBe(DRAFT_MARKER)
+    const listed = await cast.client.get(`/api/projects/${cast.demoProjectId}/sheets?q=${sheet.number}`)
+    expect(listed.body.items[0]).toMatchObject({ status: 'issued', revisionIndex: 1, revisionLabel: 'B' })
+    const history = await cast.client.get(`/api/sheets/${sheet.id}/revisions`)
+    expect(history.body.revisions.map((r: { label: string; status: string }) => [r.label, r.status])).toEqual([
+      ['B', 'issued'],
+      ['A', 'superseded'],
+    ])
+  })
+})
