@@ -458,8 +458,13 @@ export const revisionPdfs = pgTable(
     fileName: text('file_name').notNull(),
     pages: integer('pages'),
     createdAt: createdAt(),
+    /**
+     * The job of a single sheet's issue that stored it (null for a sheet issued in a package, whose package_issues
+     * row names the job, and for issues made before issuing became a job): a retried job finds its own issue.
+     */
+    jobId: bigint('job_id', { mode: 'number' }).references(() => jobs.id),
   },
-  (table) => [index('revision_pdfs_sha256').on(table.sha256)],
+  (table) => [index('revision_pdfs_sha256').on(table.sha256), uniqueIndex('revision_pdfs_job').on(table.jobId)],
 )
 
 /** One issue of a whole package: its purpose, who issued it, the PDF of the package and the revisions it holds. */
