@@ -610,14 +610,20 @@ export async function requestSheetIssue(db: Database, sheetId: number, body: Iss
   })
 }
 
-/** The job of one sheet's issue: render its PDF (no locks held), then issue under the locks, or fail saying why. */
-export async function runSheetIssue(db: Database, job: SheetIssueJob, run: JobContext, renderer: Pick<PdfRenderer, 'renderSheetPdf'>): Promise<SheetIssueAnswer> {
+/** The issue a sheet issue job made, found by the job id its PDF was stored with; null while it has made none. */
+async function issueOfJob(db: Executor, jobId: number): Promise<SheetIssueAnswer | null> {
   const [done] = await db
     .select({ sheetId: sheetRevisions.sheetId, revisionId: sheetRevisions.id, status: sheetRevisions.status, version: sheetRevisions.version, label: sheetRevisions.label })
     .from(revisionPdfs)
     .innerJoin(sheetRevisions, eq(sheetRevisions.id, revisionPdfs.revisionId))
-    .where(eq(revisionPdfs.jobId, run.jobId))
-  if (done) return { ...done, status: done.status as SheetStatus }
+    .where(eq(revisionPdfs.jobId, jobId))
+  return done ? { ...done, status: done.status as SheetStatus } : null
+}
+
+/** The job of one sheet's issue: render its PDF (no locks held), then issue under the locks, or fail saying why. */
+export async function runSheetIssue(db: Database, job: SheetIssueJob, run: JobContext, renderer: Pick<PdfRenderer, 'renderSheetPdf'>): Promise<SheetIssueAnswer> {
+  const done = await issueOfJob(db, run.jobId)
+  if (done) return done
   const { sheetId, context } = job
   const [issuer] = await db.select({ roles: people.roles, active: people.active, name: people.name }).from(people).where(eq(people.id, job.issuerId))
   if (!issuer?.active) throw new JobFailure('The person who asked for this issue can no longer issue', false)
@@ -666,8 +672,13 @@ export async function runSheetIssue(db: Database, job: SheetIssueJob, run: JobCo
       return answerOf(state, 'issued', label)
     },
   })
-  if (outcome.kind === 'refused') return refuse(outcome.refusal.refused)
-  if (outcome.kind === 'conflict') return refuse(outcome.reason)
+  if (outcome.kind !== 'done') {
+    // An attempt of this job that lost its lease while it rendered may have issued the sheet meanwhile: that issue
+    // is this job's answer, not a refusal.
+    const meanwhile = await issueOfJob(db, run.jobId)
+    if (meanwhile) return meanwhile
+    return refuse(outcome.kind === 'refused' ? outcome.refusal.refused : outcome.reason)
+  }
   await run.progress({ done: 1, total: 1, what: 'issued' })
   return outcome.value
 }
