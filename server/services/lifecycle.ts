@@ -931,7 +931,13 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
     })
     return { value: { packageIssueId: row!.id, label: first.packageLabel, pages: packagePdf.pages, issued, sha256: packagePdf.sha256, fileName: packagePdf.fileName } }
   })
-  if ('problem' in outcome) return refuse(outcome.problem!)
+  if ('problem' in outcome) {
+    // An attempt of this job that lost its lease while it rendered may have issued the package meanwhile: that
+    // issue is this job's answer, not a refusal (as for a sheet's issue job).
+    const [meanwhile] = await db.select({ id: packageIssues.id }).from(packageIssues).where(eq(packageIssues.jobId, run.jobId))
+    if (meanwhile) return answerOfIssue(db, meanwhile.id)
+    return refuse(outcome.problem!)
+  }
   await run.progress({ done: total, total, what: 'issued' })
   return outcome.value
 }
