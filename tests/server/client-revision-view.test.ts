@@ -5,7 +5,7 @@
 // the engineer goes on seeing the draft as current.
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { type Client, unique } from './support/client'
+import { type Client, issueSheetAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 import { uploadText } from './support/step-tests'
 
@@ -17,6 +17,12 @@ let issued: { id: number; contentHash: string }
 let draft: { id: number; attachmentId: number }
 
 async function act(who: Client, action: string, body: Record<string, unknown>) {
+  if (action === 'issue') {
+    // An issue is a job: 202 at once, then the job's answer.
+    const { request, job, issued } = await issueSheetAndWait(who, sheet.id, body)
+    if (!issued) throw new Error(`issue answered ${request.status}: ${JSON.stringify(job?.body ?? request.body)}`)
+    return issued
+  }
   const answer = await who.post(`/api/sheets/${sheet.id}/${action}`, body)
   if (answer.status !== 200) throw new Error(`${action} answered ${answer.status}: ${JSON.stringify(answer.body)}`)
   return answer.body

@@ -12,7 +12,7 @@ import * as schema from '../../server/db/schema'
 import { runPackageIssue, type PackageIssueJob } from '../../server/services/lifecycle'
 import { demoPassword } from '../../scripts/demo-people'
 import { pdfFonts, pdfInfo, pdfPageTexts } from '../support/poppler'
-import { database, unique } from './support/client'
+import { database, issueSheetAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 const dir = mkdtempSync(join(tmpdir(), 'loopwright-package-test-'))
@@ -41,7 +41,8 @@ describe('a package issue', () => {
       await act(sheet.id, 'approve', { version: 1, password: demoPassword })
     }
     // The first sheet is issued on its own first, so the package carries it at that revision.
-    await act(sheets[0]!.id, 'issue', { version: 1, purpose: 'information', password: demoPassword })
+    const single = await issueSheetAndWait(cast.engineer, sheets[0]!.id, { version: 1, purpose: 'information', password: demoPassword })
+    expect(single.job?.body.status, JSON.stringify(single.job?.body ?? single.request.body)).toBe('done')
 
     const body = { purpose: 'review', password: demoPassword, sheets: sheets.map((sheet) => ({ sheetId: sheet.id, version: 1 })) }
     const wrongPassword = await cast.engineer.post(`/api/packages/${made.body.id}/issue`, { ...body, password: 'not the password' })
