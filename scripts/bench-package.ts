@@ -57,8 +57,11 @@ async function main() {
     const t0 = performance.now()
     const queued = await engineer('POST', `/api/packages/${pack.id}/issue`, { purpose: 'review', password: demoPassword, sheets })
     let job: any
+    // When the job's progress first said the sheets were printed (it then prints the cover, merges and stamps).
+    let sheetsDoneAt: number | null = null
     for (;;) {
       job = await engineer('GET', `/api/jobs/${queued.jobId}`)
+      if (sheetsDoneAt === null && job.progress?.done === job.progress?.total && job.progress?.total) sheetsDoneAt = performance.now()
       if (job.status === 'done' || job.status === 'failed') break
       await new Promise((resolve) => setTimeout(resolve, 50))
     }
@@ -69,6 +72,10 @@ async function main() {
     const mb = sampler.peak.rssKb / 1024
     console.log(`\nPackage of ${SHEETS} sheets (every template of sheets/ in turn), POST /api/packages/[id]/issue to its job seen done, warm browser:`)
     console.log(`  ${seconds.toFixed(2)} s (the job's own row: ${ownSeconds.toFixed(2)} s created to finished), ${job.result.pages} pages, ${job.attempts} attempt  ${seconds <= TARGET_S ? 'PASS' : 'FAIL'} (at most ${TARGET_S} s)`)
+    if (sheetsDoneAt !== null) {
+      const sheetsSeconds = (sheetsDoneAt - t0) / 1000
+      console.log(`  of which the ${SHEETS} sheets printed (two tabs): ${sheetsSeconds.toFixed(2)} s; the cover, merging, page stamps and the issue's transaction: ${(seconds - sheetsSeconds).toFixed(2)} s (polled every 50 ms)`)
+    }
     console.log(
       `  peak memory of the app and its browser (${sampler.peak.processes} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(sampler.peak.pssKb / 1024).toFixed(0)} MiB; before the issue ${(peakBefore / 1024).toFixed(0)} MiB`,
     )

@@ -22,6 +22,25 @@ export interface SyntheticStepTest {
   seed: number
 }
 
+/**
+ * The tests' invented plant (the engine's fit tests and the server's upload and fit): K = 1.8 (L/h)/%, τ = 12 s,
+ * θ = 3.5 s, sampled every 0.2 s for 120 s, stepped 40 → 50 % at 10 s, noise σ = 0.15 L/h (0.8 % of the change of
+ * 18 L/h). A test changes what it needs with a spread (`{ ...sampleStepTest, noise: 0 }`).
+ */
+export const sampleStepTest: SyntheticStepTest = {
+  gain: 1.8,
+  timeConstant: 12,
+  deadTime: 3.5,
+  sampleTime: 0.2,
+  samples: 600,
+  stepTime: 10,
+  outputBefore: 40,
+  outputAfter: 50,
+  baseline: 20,
+  noise: 0.15,
+  seed: 11,
+}
+
 /** Standard normal deviates from a uniform generator (Box–Muller). */
 function gaussian(rnd: () => number): () => number {
   return () => {

@@ -28,7 +28,7 @@ import type { SheetStatus } from '../../shared/schemas/sheet'
 import { audited } from './audited'
 import type { AuditContext } from './audit-trail'
 import type { ObjectStore } from './object-store'
-import { isRefused, projectAccess, refused, type Refused, type Viewer } from './sheets'
+import { isRefused, newestIssuedRevision, projectAccess, refused, type Refused, type Viewer } from './sheets'
 
 /** A file as the upload route received it. */
 export interface IncomingFile {
@@ -149,8 +149,12 @@ export async function revisionAttachments(db: Database, revisionId: number): Pro
   return rows.map(viewOf)
 }
 
-/** The sheet's current revision and what `viewer` may do with it; Refused when they may not see it. */
-async function currentRevisionFor(db: Database, sheetId: number, viewer: Viewer) {
+/**
+ * The sheet's revision `viewer` works on or reads, and what they may do with it: the current one for staff, the
+ * newest issued one for a client (while the next revision is written they keep seeing what was issued); Refused
+ * when they may not see the sheet.
+ */
+async function shownRevisionFor(db: Database, sheetId: number, viewer: Viewer) {
   const [row] = await db
     .select({ projectId: sheets.projectId, revisionId: sheetRevisions.id, status: sheetRevisions.status })
     .from(sheets)
@@ -160,13 +164,15 @@ async function currentRevisionFor(db: Database, sheetId: number, viewer: Viewer)
   const access = await projectAccess(db, row.projectId, viewer)
   if (!access.read) return refused('You are not a member of this sheet’s project', { sheetId })
   const status = row.status as SheetStatus
-  if (!access.drafts && !clientVisibleStatuses.includes(status)) return refused('This sheet is not issued', { sheetId, status })
-  return { ...row, status, access, editable: access.write && editableStatuses.includes(status) }
+  if (access.drafts) return { ...row, status, access, editable: access.write && editableStatuses.includes(status) }
+  const issued = await newestIssuedRevision(db, sheetId)
+  if (!issued) return refused('This sheet is not issued', { sheetId, status })
+  return { projectId: row.projectId, revisionId: issued.id, status: issued.status, access, editable: false }
 }
 
-/** GET /api/sheets/[id]/attachments: the current revision's attachments. */
+/** GET /api/sheets/[id]/attachments: the attachments of the revision shown (shownRevisionFor). */
 export async function listSheetAttachments(db: Database, sheetId: number, viewer: Viewer): Promise<SheetAttachments | Refused> {
-  const found = await currentRevisionFor(db, sheetId, viewer)
+  const found = await shownRevisionFor(db, sheetId, viewer)
   if (isRefused(found)) return found
   return { revisionId: found.revisionId, attachments: await revisionAttachments(db, found.revisionId), canUpload: found.editable, canDelete: found.editable }
 }
@@ -238,7 +244,7 @@ export async function uploadAttachment(
   context: AuditContext,
   store: ObjectStore = useObjectStore(),
 ): Promise<UploadedAttachment | Refused> {
-  const found = await currentRevisionFor(db, sheetId, viewer)
+  const found = await shownRevisionFor(db, sheetId, viewer)
   if (isRefused(found)) return found
   if (!found.access.write) return refused('Only engineers of this project attach files to its sheets', { sheetId })
   if (!found.editable) notEditable(found.status)

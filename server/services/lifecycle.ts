@@ -38,9 +38,11 @@ import {
   type LifecycleView,
   type PackageIssueAnswer,
   type PackageIssueBody,
+  type IssueQueued,
   type PackageIssueQueued,
   type Permission,
   type ReturnBody,
+  type SheetIssueAnswer,
   type SignatureMeaning,
   type SignatureView,
   type TransitionAnswer,
@@ -52,7 +54,7 @@ import { recordAuditEvent, type AuditContext } from './audit-trail'
 import type { Executor, Transaction } from './audited'
 import { readFirmSettings } from './firm'
 import { queueMail, type QueuedMail } from './outbox'
-import { refused, viewSheet, type Refused } from './sheets'
+import { newestIssuedRevision, refused, viewSheet, type Refused } from './sheets'
 import type { PdfRenderer } from './issue-pdf'
 import { enqueueJob, JobFailure, type JobContext } from './jobs'
 import type { CoverFacts, PackagePart } from './package-pdf'
@@ -158,7 +160,8 @@ async function projectRolesOf(db: Executor, projectId: number, personId: number)
 }
 
 /** The sheet and its current revision; under the sheet's and the revision's row locks when `lock` (in a transaction). */
-async function loadState(db: Executor, sheetId: number, lock: boolean) {
+/** The sheet and its current revision (or the revision at `revisionIndex`, to read), with the facts canDo weighs. */
+async function loadState(db: Executor, sheetId: number, lock: boolean, revisionIndex?: number) {
   const sheetQuery = db
     .select({ id: sheets.id, projectId: sheets.projectId, number: sheets.number, title: sheets.title, loopTag: sheets.loopTag, currentIndex: sheets.currentRevisionIndex })
     .from(sheets)
@@ -168,7 +171,7 @@ async function loadState(db: Executor, sheetId: number, lock: boolean) {
   const revisionQuery = db
     .select()
     .from(sheetRevisions)
-    .where(and(eq(sheetRevisions.sheetId, sheetId), eq(sheetRevisions.revisionIndex, sheet.currentIndex)))
+    .where(and(eq(sheetRevisions.sheetId, sheetId), eq(sheetRevisions.revisionIndex, revisionIndex ?? sheet.currentIndex)))
   const [revision] = lock ? await revisionQuery.for('update') : await revisionQuery
   if (!revision) return null
   const [editors, signed, openComments] = await Promise.all([
@@ -180,7 +183,7 @@ async function loadState(db: Executor, sheetId: number, lock: boolean) {
   const approval = signed.find((signature) => signature.meaning === 'checked and approved')
   const facts: RevisionFacts = {
     status: revision.status as SheetStatus,
-    isCurrent: true,
+    isCurrent: revision.revisionIndex === sheet.currentIndex,
     preparedBy: revision.preparedBy,
     editors: editors.map((row) => row.personId),
     hasResult: revision.result !== null,
@@ -204,10 +207,20 @@ function signatureViews(state: Pick<State, 'signed' | 'hash'>): SignatureView[] 
   }))
 }
 
-/** The lifecycle part of GET /api/sheets/[id], for `viewer`. */
-export async function lifecycleView(db: Database, sheetId: number, viewer: Viewer): Promise<LifecycleView | null> {
-  const state = await loadState(db, sheetId, false)
+/**
+ * The lifecycle part of GET /api/sheets/[id], for `viewer`: of the current revision, or of the one at `revisionIndex`.
+ * `issuedOnly` (a client's view) reads the sheet as ending at its newest issued revision: that one is current to
+ * them, and no answer says that a later revision exists.
+ */
+export async function lifecycleView(
+  db: Database,
+  sheetId: number,
+  viewer: Viewer,
+  shown: { revisionIndex?: number; issuedOnly?: boolean } = {},
+): Promise<LifecycleView | null> {
+  const state = await loadState(db, sheetId, false, shown.revisionIndex)
   if (!state) return null
+  if (shown.issuedOnly) state.facts.isCurrent = state.revision.revisionIndex === (await newestIssuedRevision(db, sheetId))?.index
   const person = { ...viewer, projectRoles: await projectRolesOf(db, state.sheet.projectId, viewer.id) }
   const [pdf] = await db.select({ id: revisionPdfs.revisionId }).from(revisionPdfs).where(eq(revisionPdfs.revisionId, state.revision.id))
   return {
@@ -318,9 +331,15 @@ interface Step<T> {
   work: (tx: Transaction, state: State) => Promise<T>
 }
 
-/** Runs one transition: locks, checks who and what under the locks, does the work, and audits; or refuses. */
-async function transition<T>(db: Database, context: AuditContext, sheetId: number, viewer: Viewer, step: Step<T>): Promise<T | Refused> {
-  const outcome = await db.transaction(async (tx): Promise<Outcome<T>> => {
+/** Thrown by a step's work when what it finds under the locks forbids it: the work rolls back, answered as a conflict. */
+class StepConflict extends Error {}
+
+/**
+ * One transition's transaction: locks, checks who and what under the locks, does the work; answers the outcome, so
+ * the request (transition: 403, 409) and the issue job (runSheetIssue: a JobFailure) each answer a refusal their way.
+ */
+async function lockedStep<T>(db: Database, sheetId: number, viewer: Viewer, step: Step<T>): Promise<Outcome<T>> {
+  return db.transaction(async (tx): Promise<Outcome<T>> => {
     const state = await loadState(tx, sheetId, true)
     if (!state) throw createError({ statusCode: 404, statusMessage: 'No such sheet' })
     const person = { ...viewer, projectRoles: await projectRolesOf(tx, state.sheet.projectId, viewer.id) }
@@ -338,7 +357,15 @@ async function transition<T>(db: Database, context: AuditContext, sheetId: numbe
       return { kind: 'conflict', reason: 'This sheet changed since you loaded it: read it again before you act' }
     }
     return { kind: 'done', value: await step.work(tx, state) }
+  }).catch((error: unknown) => {
+    if (error instanceof StepConflict) return { kind: 'conflict', reason: error.message } as const
+    throw error
   })
+}
+
+/** Runs one transition: locks, checks who and what under the locks, does the work, and audits; or refuses. */
+async function transition<T>(db: Database, context: AuditContext, sheetId: number, viewer: Viewer, step: Step<T>): Promise<T | Refused> {
+  const outcome = await lockedStep(db, sheetId, viewer, step)
   if (outcome.kind === 'done') return outcome.value
   if (outcome.kind === 'refused') return outcome.refusal
   return conflict(db, context, sheetId, viewer, step.action, outcome.reason, { version: step.version })
@@ -488,8 +515,10 @@ async function writeIssue(
   state: State,
   issue: { label: string; purpose: IssuePurpose; issuedAt: Date; issuer: Viewer; issuerName: string },
   pdf: { bytes: Buffer; sha256: string; fileName: string; pages: number },
+  /** The single sheet's issue job that writes it (a package's issue names its job in package_issues instead). */
+  jobId: number | null = null,
 ) {
-  await tx.insert(revisionPdfs).values({ revisionId: state.revision.id, bytes: pdf.bytes, sha256: pdf.sha256, fileName: pdf.fileName, pages: pdf.pages })
+  await tx.insert(revisionPdfs).values({ revisionId: state.revision.id, bytes: pdf.bytes, sha256: pdf.sha256, fileName: pdf.fileName, pages: pdf.pages, jobId })
   await tx.insert(signatures).values({
     revisionId: state.revision.id,
     personId: issue.issuer.id,
@@ -521,49 +550,148 @@ async function clientMails(tx: Executor, projectId: number, what: string, links:
   }))
 }
 
+// ---------------------------------------------------------------------------------------------------------------
+// Issuing one sheet
+//
+// POST /api/sheets/[id]/issue answers at once what a person is answered at once: who may issue, the password, the
+// version and the state, checked under the sheet's locks as every transition is (403, 409, 429); then a job is queued
+// in that transaction with its audit row (`sheet.issue-requested`) and the answer is 202 { jobId }. The job
+// (runSheetIssue, registered by server/plugins/issue-jobs.ts, claimed by whichever app server is free) renders the
+// PDF with no locks held, with the label the firm's rule gives then, and issues in ONE transaction under the locks
+// that reads the state, the version and the label again: anything changed meanwhile fails the job with the reason
+// (audited `sheet.issue-refused`), so what is stored is what was rendered. A job retried after its runner died renders
+// afresh; one whose issue had committed finds its PDF by its job id (revision_pdfs.job_id) and answers that issue.
+
+export const SHEET_ISSUE_JOB = 'sheet.issue'
+
+export interface SheetIssueJob {
+  sheetId: number
+  /** The revision and version the person saw: the job issues exactly that, or nothing. */
+  revisionId: number
+  version: number
+  purpose: IssuePurpose
+  issuerId: number
+  context: AuditContext
+  siteUrl: string
+}
+
 /**
- * POST /api/sheets/[id]/issue. The PDF is rendered before the transaction (a render must not hold the sheet's
- * locks), with the label the firm's rule gives now; under the locks the state, the version and the label are read
- * again, and anything changed meanwhile refuses the issue (409), so what is stored is what was rendered.
+ * The id of a job waiting or running that issues one of `sheetIds`: a sheet's own issue, or a package's issue that
+ * names it. Of two issues of one sheet at once the second is refused while the first is in hand; the transaction
+ * that issues checks the states again in any case, so a race between a sheet's and its package's request (which
+ * lock different rows) ends with one of the two jobs refused, never a sheet issued twice.
  */
-export async function issueSheet(db: Database, sheetId: number, body: IssueBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing, renderer: PdfRenderer) {
-  if (await mayAct(db, sheetId, viewer, 'issue', body.version)) {
+async function issueJobFor(executor: Executor, sheetIds: number[]): Promise<number | null> {
+  const ids = sql.join(sheetIds.map((id) => sql`${id}`), sql`, `)
+  const [busy] = await executor.execute<{ id: number }>(sql`
+    select id from jobs where status in ('waiting', 'running') and (
+      (kind = ${SHEET_ISSUE_JOB} and (payload->>'sheetId')::int in (${ids}))
+      or (kind = ${PACKAGE_ISSUE_JOB} and exists (
+        select 1 from jsonb_array_elements(payload->'sheets') as named where (named->>'sheetId')::int in (${ids}))))
+    order by id limit 1`)
+  return busy ? Number(busy.id) : null
+}
+
+/** POST /api/sheets/[id]/issue: the checks a person is answered at once, then the job that renders and issues. */
+export async function requestSheetIssue(db: Database, sheetId: number, body: IssueBody, viewer: Viewer, context: AuditContext, links: Links, signing: Signing): Promise<IssueQueued | Refused> {
+  const passwordChecked = await mayAct(db, sheetId, viewer, 'issue', body.version)
+  if (passwordChecked) {
     const wrong = await checkPassword(db, viewer, body.password, signing)
     if (wrong) return { ...wrong, detail: { ...wrong.detail, sheetId, action: 'issue' } }
   }
-  const before = await loadState(db, sheetId, false)
-  if (!before) throw createError({ statusCode: 404, statusMessage: 'No such sheet' })
-  const firm = await readFirmSettings(db)
-  const label = nextRevisionLabel(firm.revisionLabelRule, await earlierLabels(db, sheetId), body.purpose)
-  const issuedAt = new Date()
-  const issuerName = await printedNameOf(db, viewer.id)
-  // Only a revision the person may issue is rendered; the checks are made again under the locks below.
-  const person = { ...viewer, projectRoles: await projectRolesOf(db, before.sheet.projectId, viewer.id) }
-  const pdf = canDo(person, before.facts).issue.allowed && before.revision.version === body.version
-    ? await renderer.renderSheetPdf(before.revision.id, { issue: { label, purpose: body.purpose, issuedBy: issuerName, issuedAt: issuedAt.toISOString() } })
-    : null
   return transition(db, context, sheetId, viewer, {
     action: 'issue',
     version: body.version,
     work: async (tx, state) => {
-      const labelNow = nextRevisionLabel((await readFirmSettings(tx)).revisionLabelRule, await earlierLabels(tx, sheetId), body.purpose)
-      if (!pdf || state.revision.id !== before.revision.id || labelNow !== label) {
-        throw createError({ statusCode: 409, statusMessage: 'This sheet changed while its PDF was made: issue it again' })
-      }
-      const superseded = await writeIssue(tx, state, { label, purpose: body.purpose, issuedAt, issuer: viewer, issuerName }, pdf)
+      // The sheet became issuable between the first read and the locks: the password was never checked.
+      if (!passwordChecked) throw new StepConflict('This sheet changed since you loaded it: read it again before you act')
+      // Under the sheet's row lock, so of two requests at once the second sees the first one's job.
+      const busy = await issueJobFor(tx, [sheetId])
+      if (busy !== null) throw new StepConflict(`This sheet is being issued already (job ${busy})`)
+      const payload: SheetIssueJob = { sheetId, revisionId: state.revision.id, version: state.revision.version, purpose: body.purpose, issuerId: viewer.id, context, siteUrl: links.siteUrl }
+      const jobId = await enqueueJob(tx, SHEET_ISSUE_JOB, payload, viewer.id)
+      await recordAuditEvent(tx, context, {
+        action: 'sheet.issue-requested',
+        subjectType: 'sheet',
+        subjectId: sheetId,
+        detail: { jobId, revisionId: state.revision.id, version: state.revision.version, purpose: body.purpose },
+      })
+      return { jobId }
+    },
+  })
+}
+
+/** The issue a sheet issue job made, found by the job id its PDF was stored with; null while it has made none. */
+async function issueOfJob(db: Executor, jobId: number): Promise<SheetIssueAnswer | null> {
+  const [done] = await db
+    .select({ sheetId: sheetRevisions.sheetId, revisionId: sheetRevisions.id, status: sheetRevisions.status, version: sheetRevisions.version, label: sheetRevisions.label })
+    .from(revisionPdfs)
+    .innerJoin(sheetRevisions, eq(sheetRevisions.id, revisionPdfs.revisionId))
+    .where(eq(revisionPdfs.jobId, jobId))
+  return done ? { ...done, status: done.status as SheetStatus } : null
+}
+
+/** The job of one sheet's issue: render its PDF (no locks held), then issue under the locks, or fail saying why. */
+export async function runSheetIssue(db: Database, job: SheetIssueJob, run: JobContext, renderer: Pick<PdfRenderer, 'renderSheetPdf'>): Promise<SheetIssueAnswer> {
+  const done = await issueOfJob(db, run.jobId)
+  if (done) return done
+  const { sheetId, context } = job
+  const [issuer] = await db.select({ roles: people.roles, active: people.active, name: people.name }).from(people).where(eq(people.id, job.issuerId))
+  if (!issuer?.active) throw new JobFailure('The person who asked for this issue can no longer issue', false)
+  const viewer: Viewer = { id: job.issuerId, roles: issuer.roles as Role[] }
+  const before = await loadState(db, sheetId, false)
+  if (!before) throw new JobFailure(`There is no sheet ${sheetId}`, false)
+  const number = before.sheet.number
+  const refuse = async (reason: string): Promise<never> => {
+    await recordAuditEvent(db, context, { action: 'sheet.issue-refused', subjectType: 'sheet', subjectId: sheetId, status: 409, detail: { reason, version: job.version, jobId: run.jobId } })
+    throw new JobFailure(`Sheet ${number} was not issued: ${reason}`, false)
+  }
+  // Only the revision the person saw, and only while they may issue it, is rendered; the locks below check again.
+  const person = { ...viewer, projectRoles: await projectRolesOf(db, before.sheet.projectId, viewer.id) }
+  if (before.revision.id !== job.revisionId || before.revision.version !== job.version) return refuse('This sheet changed since you loaded it: read it again before you act')
+  const permission = canDo(person, before.facts).issue
+  if (!permission.allowed) return refuse(permission.reason)
+  const firm = await readFirmSettings(db)
+  const label = nextRevisionLabel(firm.revisionLabelRule, await earlierLabels(db, sheetId), job.purpose)
+  const issuedAt = new Date()
+  await run.progress({ done: 0, total: 1, what: `printing ${number} revision ${label}` })
+  let pdf: Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>
+  try {
+    pdf = await renderer.renderSheetPdf(before.revision.id, { issue: { label, purpose: job.purpose, issuedBy: issuer.name, issuedAt: issuedAt.toISOString() } })
+  } catch (error) {
+    throw new JobFailure(`Sheet ${number} could not be printed: ${error instanceof Error ? error.message : String(error)}`)
+  }
+  if (run.signal.aborted) throw new Error('The render was stopped before it finished')
+  const links: Links = { siteUrl: job.siteUrl }
+  const outcome = await lockedStep(db, sheetId, viewer, {
+    action: 'issue',
+    version: job.version,
+    work: async (tx, state) => {
+      const labelNow = nextRevisionLabel((await readFirmSettings(tx)).revisionLabelRule, await earlierLabels(tx, sheetId), job.purpose)
+      if (state.revision.id !== before.revision.id || labelNow !== label) throw new StepConflict('This sheet changed while its PDF was made: issue it again')
+      const superseded = await writeIssue(tx, state, { label, purpose: job.purpose, issuedAt, issuer: viewer, issuerName: issuer.name }, pdf, run.jobId)
       const mails = await clientMails(tx, state.sheet.projectId, `sheet ${state.sheet.number} “${state.sheet.title}”, revision ${label}`, [
         { title: `${state.sheet.number} revision ${label}`, url: documentLink(links, state.revision.id) },
-      ], body.purpose)
+      ], job.purpose)
       await queueMail(tx, ...mails)
       await recordAuditEvent(tx, context, {
         action: 'sheet.issued',
         subjectType: 'sheet',
         subjectId: sheetId,
-        detail: { revisionId: state.revision.id, label, purpose: body.purpose, contentHash: state.hash, pdfSha256: pdf.sha256, superseded, notified: mails.length },
+        detail: { revisionId: state.revision.id, label, purpose: job.purpose, contentHash: state.hash, pdfSha256: pdf.sha256, superseded, notified: mails.length, jobId: run.jobId },
       })
       return answerOf(state, 'issued', label)
     },
   })
+  if (outcome.kind !== 'done') {
+    // An attempt of this job that lost its lease while it rendered may have issued the sheet meanwhile: that issue
+    // is this job's answer, not a refusal.
+    const meanwhile = await issueOfJob(db, run.jobId)
+    if (meanwhile) return meanwhile
+    return refuse(outcome.kind === 'refused' ? outcome.refusal.refused : outcome.reason)
+  }
+  await run.progress({ done: 1, total: 1, what: 'issued' })
+  return outcome.value
 }
 
 /** POST /api/sheets/[id]/revise: the next revision, a draft prepared by the reviser, its content copied. */
@@ -609,7 +737,7 @@ export async function reviseSheet(db: Database, sheetId: number, body: VersionBo
 //
 // POST /api/packages/[id]/issue answers at once: who may issue, the password and the package's state are checked
 // in the request (403/409 with the reason), and a job is queued in the same transaction as its audit row. The job
-// (runPackageIssue, registered by server/plugins/package-jobs.ts) renders every sheet and the cover, then issues
+// (runPackageIssue, registered by server/plugins/issue-jobs.ts) renders every sheet and the cover, then issues
 // everything in ONE transaction that checks the states and versions again: every sheet, or nothing. A job retried
 // after its runner died renders afresh; one whose issue had committed finds it by its job id and answers it.
 
@@ -668,6 +796,9 @@ export async function requestPackageIssue(db: Database, packageId: number, body:
     await tx.select({ id: packages.id }).from(packages).where(eq(packages.id, packageId)).for('update')
     const [busy] = await tx.execute<{ id: number }>(sql`select id from jobs where kind = ${PACKAGE_ISSUE_JOB} and status in ('waiting', 'running') and (payload->>'packageId')::int = ${packageId} limit 1`)
     if (busy) return { problem: `This package is being issued already (job ${busy.id})` }
+    // A sheet of it being issued on its own (its job's final transaction would refuse one of the two anyway).
+    const sheetJob = await issueJobFor(tx, body.sheets.map((sheet) => sheet.sheetId))
+    if (sheetJob !== null) return { problem: `A sheet of this package is being issued already (job ${sheetJob})` }
     const jobId = await enqueueJob(tx, PACKAGE_ISSUE_JOB, payload, viewer.id)
     await recordAuditEvent(tx, context, { action: 'package.issue-requested', subjectType: 'package', subjectId: packageId, detail: { jobId, purpose: body.purpose, sheets: body.sheets } })
     return { jobId }
@@ -811,7 +942,13 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
     })
     return { value: { packageIssueId: row!.id, label: first.packageLabel, pages: packagePdf.pages, issued, sha256: packagePdf.sha256, fileName: packagePdf.fileName } }
   })
-  if ('problem' in outcome) return refuse(outcome.problem!)
+  if ('problem' in outcome) {
+    // An attempt of this job that lost its lease while it rendered may have issued the package meanwhile: that
+    // issue is this job's answer, not a refusal (as for a sheet's issue job).
+    const [meanwhile] = await db.select({ id: packageIssues.id }).from(packageIssues).where(eq(packageIssues.jobId, run.jobId))
+    if (meanwhile) return answerOfIssue(db, meanwhile.id)
+    return refuse(outcome.problem!)
+  }
   await run.progress({ done: total, total, what: 'issued' })
   return outcome.value
 }

@@ -5,19 +5,14 @@ import { createError } from 'h3'
 import { packages, projects } from '../db/schema'
 import type { Database } from '../utils/db'
 import type { PackageBody, PackageRow } from '../../shared/schemas/sheets'
-import { clientVisibleStatuses } from '../../shared/schemas/sheets'
 import { recordAuditEvent, type AuditContext } from './audit-trail'
 import { projectAccess, refused, type Refused, type Viewer } from './sheets'
 
 const packageIdColumn = sql.raw('"packages"."id"')
 
+// A client counts the sheets issued at least once (sheets.issued_*): one whose next revision is being written counts.
 function sheetCount(clientView: boolean) {
-  const visible = clientView
-    ? sql` and s.current_status in (${sql.join(
-        clientVisibleStatuses.map((status) => sql`${status}`),
-        sql`, `,
-      )})`
-    : sql``
+  const visible = clientView ? sql` and s.issued_revision_index is not null` : sql``
   return sql<number>`(select count(*)::int from sheets s where s.package_id = ${packageIdColumn}${visible})`
 }
 

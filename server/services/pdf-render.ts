@@ -61,7 +61,10 @@ async function launch() {
       '--no-default-browser-check',
       // No zygote processes and no spare renderer kept waiting: fewer processes, less memory (scripts/bench-pdf.ts).
       '--no-zygote',
+      '--in-process-gpu',
       '--disable-features=SpareRendererForSitePerProcess,AudioServiceOutOfProcess',
+      '--enable-features=NetworkServiceInProcess2',
+      ...(process.env.LOOPWRIGHT_PDF_JS_FLAGS ? [`--js-flags=${process.env.LOOPWRIGHT_PDF_JS_FLAGS}`] : []),
     ],
   })
   // The blank tab Chromium opens at launch holds a renderer process of its own (seen in the bench's breakdown):

@@ -2,7 +2,7 @@
 // template, or a copy), the sheet with its current revision, and saves that recompute through the engine.
 // Who may do what (product.md, "Who uses it"): admins and project members read; engineers who are members create
 // and save drafts (and returned sheets); checkers read; clients see only issued revisions, never a draft.
-import { and, asc, desc, eq, ilike, inArray, ne, or, sql, type SQL } from 'drizzle-orm'
+import { and, asc, desc, eq, ilike, inArray, isNotNull, ne, or, sql, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/pg-core'
 import { createError } from 'h3'
 import { organisations, packages, people, projectMembers, projects, revisionEditors, sheetRevisions, sheets } from '../db/schema'
@@ -85,6 +85,17 @@ function accessOf(viewer: Viewer, roles: ProjectRole[]): Access {
   }
 }
 
+/** The sheet's newest issued (or superseded) revision: all a client sees of it. Null when it was never issued. */
+export async function newestIssuedRevision(db: Pick<Database, 'select'>, sheetId: number) {
+  const [row] = await db
+    .select({ id: sheetRevisions.id, index: sheetRevisions.revisionIndex, status: sheetRevisions.status })
+    .from(sheetRevisions)
+    .where(and(eq(sheetRevisions.sheetId, sheetId), inArray(sheetRevisions.status, [...clientVisibleStatuses])))
+    .orderBy(desc(sheetRevisions.revisionIndex))
+    .limit(1)
+  return row ? { ...row, status: row.status as SheetStatus } : null
+}
+
 export async function projectAccess(db: Pick<Database, 'select'>, projectId: number, viewer: Viewer): Promise<Access> {
   const [project] = await db.select({ id: projects.id }).from(projects).where(eq(projects.id, projectId))
   if (!project) throw createError({ statusCode: 404, statusMessage: 'No such project' })
@@ -105,20 +116,25 @@ function badField(field: string, message: string): never {
 const current = alias(sheetRevisions, 'current')
 const editor = alias(people, 'editor')
 
-// The list reads the current revision's copy on `sheets` (sheets.current_*, kept by a trigger: schema.ts).
-const rowColumns = {
-  id: sheets.id,
-  number: sheets.number,
-  title: sheets.title,
-  loopTag: sheets.loopTag,
-  status: sheets.currentStatus,
-  revisionIndex: sheets.currentRevisionIndex,
-  revisionLabel: sheets.currentRevisionLabel,
-  packageId: sheets.packageId,
-  packageNumber: packages.number,
-  updatedAt: sheets.currentEditedAt,
-  updatedByName: editor.name,
+// Staff read the current revision's copy on `sheets` (sheets.current_*); a client the newest issued revision's
+// (sheets.issued_*, null on a sheet never issued), so a sheet whose next revision is being written lists as last
+// issued and nothing of the draft shows. Both copies are kept by triggers on sheet_revisions (schema.ts).
+function rowColumnsFor(drafts: boolean) {
+  return {
+    id: sheets.id,
+    number: sheets.number,
+    title: sheets.title,
+    loopTag: sheets.loopTag,
+    status: drafts ? sheets.currentStatus : sql<string>`${sheets.issuedStatus}`,
+    revisionIndex: drafts ? sheets.currentRevisionIndex : sql<number>`${sheets.issuedRevisionIndex}`,
+    revisionLabel: drafts ? sheets.currentRevisionLabel : sheets.issuedRevisionLabel,
+    packageId: sheets.packageId,
+    packageNumber: packages.number,
+    updatedAt: drafts ? sheets.currentEditedAt : sql<Date>`${sheets.issuedEditedAt}`.mapWith(sheets.issuedEditedAt),
+    updatedByName: editor.name,
+  }
 }
+type RowColumns = ReturnType<typeof rowColumnsFor>
 
 type SelectedRow = Omit<SheetRow, 'status' | 'updatedAt'> & { status: string; updatedAt: Date }
 
@@ -135,16 +151,16 @@ function containing(q: string): string {
  * Sheet numbers hold a sequence (`NWD-214-07`, `NWD-214-123`); ordered by length first, then text, they come in
  * sequence order without parsing the firm's pattern (indexed by sheets_project_number_order).
  */
-function orderOf(query: Pick<SheetsQuery, 'sort' | 'dir'>): SQL[] {
+function orderOf(query: Pick<SheetsQuery, 'sort' | 'dir'>, columns: Pick<RowColumns, 'status' | 'updatedAt'> = rowColumnsFor(true)): SQL[] {
   const direction = query.dir === 'desc' ? desc : asc
   const byNumber = [direction(sql`length(${sheets.number})`), direction(sheets.number)]
   switch (query.sort) {
     case 'title':
       return [direction(sheets.title), ...byNumber]
     case 'status':
-      return [direction(sheets.currentStatus), ...byNumber]
+      return [direction(columns.status), ...byNumber]
     case 'updatedAt':
-      return [direction(sheets.currentEditedAt), direction(sheets.id)]
+      return [direction(columns.updatedAt), direction(sheets.id)]
     default:
       return byNumber
   }
@@ -156,23 +172,27 @@ function searchOf(q: string): SQL | undefined {
   return or(ilike(sheets.number, pattern), ilike(sheets.title, pattern), ilike(sheets.loopTag, pattern))
 }
 
-/** GET /api/projects/[id]/sheets: one page of the project's sheets. A client sees only issued revisions. */
+/**
+ * GET /api/projects/[id]/sheets: one page of the project's sheets. A client sees only sheets issued at least once,
+ * each at its newest issued revision (status, label, last change), whatever revision is being written after it.
+ */
 export async function listProjectSheets(db: Database, projectId: number, query: SheetsQuery, viewer: Viewer): Promise<Page<SheetRow> | Refused> {
   const access = await projectAccess(db, projectId, viewer)
   if (!access.read) return refused('You are not a member of this project', { projectId })
+  const columns = rowColumnsFor(access.drafts)
   const filters = [eq(sheets.projectId, projectId), searchOf(query.q)]
-  if (query.status) filters.push(eq(sheets.currentStatus, query.status))
+  if (query.status) filters.push(sql`${columns.status} = ${query.status}`)
   if (query.packageId) filters.push(eq(sheets.packageId, query.packageId))
-  if (!access.drafts) filters.push(inArray(sheets.currentStatus, [...clientVisibleStatuses]))
+  if (!access.drafts) filters.push(isNotNull(sheets.issuedRevisionIndex))
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db
-      .select(rowColumns)
+      .select(columns)
       .from(sheets)
-      .innerJoin(editor, eq(editor.id, sheets.currentEditedBy))
+      .innerJoin(editor, eq(editor.id, access.drafts ? sheets.currentEditedBy : sheets.issuedEditedBy))
       .leftJoin(packages, eq(packages.id, sheets.packageId))
       .where(where)
-      .orderBy(...orderOf(query))
+      .orderBy(...orderOf(query, columns))
       .limit(query.pageSize)
       .offset((query.page - 1) * query.pageSize),
     db.select({ total: sql<number>`count(*)::int` }).from(sheets).where(where),
@@ -196,7 +216,7 @@ export async function listMySheets(db: Database, query: MySheetsQuery, viewer: V
   const where = and(...filters)
   const [rows, [counted]] = await Promise.all([
     db
-      .select({ ...rowColumns, projectId: projects.id, projectNumber: projects.number })
+      .select({ ...rowColumnsFor(true), projectId: projects.id, projectNumber: projects.number })
       .from(sheets)
       .innerJoin(editor, eq(editor.id, sheets.currentEditedBy))
       .innerJoin(projects, eq(projects.id, sheets.projectId))
@@ -257,8 +277,8 @@ export async function listCheckQueue(db: Database, viewer: Viewer): Promise<Chec
 const preparer = alias(people, 'preparer')
 
 /** The sheet with its current revision, or (`revisionId`) with that revision of it. */
-async function loadSheet(db: Pick<Database, 'select'>, sheetId: number | null, revisionId?: number) {
-  const which = revisionId === undefined ? eq(current.revisionIndex, sheets.currentRevisionIndex) : eq(current.id, revisionId)
+async function loadSheet(db: Pick<Database, 'select'>, sheetId: number | null, revision: 'current' | { revisionId: number } = 'current') {
+  const which = revision === 'current' ? eq(current.revisionIndex, sheets.currentRevisionIndex) : eq(current.id, revision.revisionId)
   const [row] = await db
     .select({
       id: sheets.id,
@@ -302,7 +322,11 @@ async function loadSheet(db: Pick<Database, 'select'>, sheetId: number | null, r
 type LoadedSheet = NonNullable<Awaited<ReturnType<typeof loadSheet>>>
 
 async function detailOf(db: Database, row: LoadedSheet, access: Access, viewer: Viewer): Promise<SheetDetail> {
-  const [firm, lifecycle] = await Promise.all([readFirmSettings(db), lifecycleView(db, row.id, viewer)])
+  // The life of the revision shown; to a client, the newest issued revision is the sheet's current one.
+  const [firm, lifecycle] = await Promise.all([
+    readFirmSettings(db),
+    lifecycleView(db, row.id, viewer, { revisionIndex: row.revision.index, issuedOnly: !access.drafts }),
+  ])
   const { revision } = row
   const status = revision.status as SheetStatus
   return {
@@ -327,15 +351,21 @@ async function detailOf(db: Database, row: LoadedSheet, access: Access, viewer: 
   }
 }
 
-/** The sheet and what `viewer` may do with it; `Refused` when they may not see it. */
+/**
+ * The sheet and what `viewer` may do with it; `Refused` when they may not see it. Staff get the current revision; a
+ * client the newest issued one, so a sheet whose next revision is being written still opens at the revision they
+ * hold, and the draft stays out of the answer.
+ */
 async function sheetFor(db: Database, sheetId: number, viewer: Viewer) {
   const row = await loadSheet(db, sheetId)
   if (!row) throw createError({ statusCode: 404, statusMessage: 'No such sheet' })
   const access = accessOf(viewer, await memberRoles(db, row.projectId, viewer))
   if (!access.read) return refused('You are not a member of this sheet’s project', { sheetId })
-  const status = row.revision.status as SheetStatus
-  if (!access.drafts && !clientVisibleStatuses.includes(status)) return refused('This sheet is not issued', { sheetId, status })
-  return { row, access }
+  if (access.drafts) return { row, access }
+  const issued = await newestIssuedRevision(db, sheetId)
+  // The current status goes to the audit trail only (the answer is the reason alone).
+  if (!issued) return refused('This sheet is not issued', { sheetId, status: row.revision.status })
+  return { row: (await loadSheet(db, sheetId, { revisionId: issued.id }))!, access }
 }
 
 /**
@@ -343,7 +373,7 @@ async function sheetFor(db: Database, sheetId: number, viewer: Viewer) {
  * the revision, server/utils/render-token.ts). Null when there is no such revision.
  */
 export async function revisionDetail(db: Database, revisionId: number): Promise<SheetDetail | null> {
-  const row = await loadSheet(db, null, revisionId)
+  const row = await loadSheet(db, null, { revisionId })
   // Nobody acts through the renderer: a viewer of no roles, so every action reads as not allowed.
   return row ? detailOf(db, row, { read: true, drafts: true, write: false }, { id: 0, roles: [] }) : null
 }
@@ -353,7 +383,7 @@ export async function revisionDetail(db: Database, revisionId: number): Promise<
  * a project they are a client member of). Answers the detail, or `Refused`; 404 when there is no such revision.
  */
 export async function viewRevision(db: Database, revisionId: number, viewer: Viewer): Promise<SheetDetail | Refused> {
-  const row = await loadSheet(db, null, revisionId)
+  const row = await loadSheet(db, null, { revisionId })
   if (!row) throw createError({ statusCode: 404, statusMessage: 'No such revision' })
   const access = accessOf(viewer, await memberRoles(db, row.projectId, viewer))
   if (!access.read) return refused('You are not a member of this sheet’s project', { revisionId })

@@ -111,10 +111,17 @@ export interface TransitionAnswer {
   label: string | null
 }
 
-/** POST /api/packages/[id]/issue answers 202 with the job that renders and issues the package (GET /api/jobs/[id]). */
-export interface PackageIssueQueued {
+/**
+ * POST /api/sheets/[id]/issue and POST /api/packages/[id]/issue answer 202 with the job that renders and issues
+ * (GET /api/jobs/[id] for its progress and, once done, its result).
+ */
+export interface IssueQueued {
   jobId: number
 }
+export type PackageIssueQueued = IssueQueued
+
+/** The result of a single sheet's issue job once done: the sheet as the issue left it (read it again with GET). */
+export type SheetIssueAnswer = TransitionAnswer
 
 /** The result of that job once done. */
 export interface PackageIssueAnswer {

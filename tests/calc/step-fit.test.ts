@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { fitStepTest, locateStep, twoPointFit } from '#shared/calc/step-fit'
 import { StepTestError, readStepRecord } from '#shared/calc/step-test'
-import { type SyntheticStepTest, syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
+import { type SyntheticStepTest, sampleStepTest, syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
 
 /**
  * Step tests made from a known first-order-plus-dead-time model (its exact
@@ -9,19 +9,8 @@ import { type SyntheticStepTest, syntheticStepCsv } from '../../scripts/lib/synt
  * Gaussian noise: the fits must give the model back within the tolerances
  * stated beside each check.
  */
-const base: SyntheticStepTest = {
-  gain: 1.8,
-  timeConstant: 12,
-  deadTime: 3.5,
-  sampleTime: 0.2,
-  samples: 600,
-  stepTime: 10,
-  outputBefore: 40,
-  outputAfter: 50,
-  baseline: 20,
-  noise: 0,
-  seed: 1,
-}
+// The tests' invented plant (K = 1.8, τ = 12 s, θ = 3.5 s) without noise; each case adds what it checks.
+const base: SyntheticStepTest = { ...sampleStepTest, noise: 0, seed: 1 }
 
 function refusal(run: () => unknown): StepTestError {
   try {

@@ -70,6 +70,14 @@ describe('lambda (IMC-based) PI', () => {
     expect(result.closedLoopTimeConstant).toBe(6)
   })
 
+  it('gives SIMC\'s example E1 again with λ = θ, where the two rules coincide (τ ≤ 4(τc + θ); values from memory)', () => {
+    // Skogestad, J. Process Control 13 (2003) 291–309, example E1 (from memory): k = 1, τ = 2.5, θ = 1.47, τc = θ
+    // gives Kc = 0.85, τI = 2.5. The lambda rule with λ = τc is the same PI there: its τI = τ is SIMC's min{τ, 4(τc + θ)}.
+    const result = tune({ rule: 'lambda-pi', model: { gain: 1, timeConstant: 2.5, deadTime: 1.47 }, closedLoopTimeConstant: 1.47 })
+    expect(result.settings.gain).toBeCloseTo(0.85, 2)
+    expect(result.settings.integralTime).toBe(2.5)
+  })
+
   it('needs the engineer\'s λ', () => {
     expect(() => tune({ rule: 'lambda-pi', model: { gain: 1, timeConstant: 5, deadTime: 1 } })).toThrow(TuningError)
   })

@@ -32,6 +32,24 @@ export async function api<T = unknown>(cookie: string, path: string, init: { met
   return { status: response.status, body: (text ? JSON.parse(text) : null) as T }
 }
 
+/**
+ * POST /api/sheets/[id]/issue as `cookie`'s person and, when it is queued (202), its job polled (GET /api/jobs/[id])
+ * to its end: the request's status, the finished job, and `issued`, the job's result once done (else null).
+ */
+export async function issueSheetAndWait(cookie: string, sheetId: number, body: Record<string, unknown>, timeoutMs = 90_000) {
+  const request = await api<{ jobId: number }>(cookie, `/api/sheets/${sheetId}/issue`, { method: 'POST', body })
+  if (request.status !== 202) return { status: request.status, job: null, issued: null, answer: request.body as unknown }
+  const deadline = Date.now() + timeoutMs
+  for (;;) {
+    const job = await api<{ status: string; result: { sheetId: number; revisionId: number; status: string; label: string } | null; error: string | null }>(cookie, `/api/jobs/${request.body.jobId}`)
+    if (job.status !== 200 || job.body.status === 'done' || job.body.status === 'failed') {
+      return { status: request.status, job: job.body, issued: job.body?.status === 'done' ? job.body.result : null, answer: request.body as unknown }
+    }
+    if (Date.now() > deadline) throw new Error(`the issue job of sheet ${sheetId} had not finished after ${timeoutMs} ms: ${JSON.stringify(job.body)}`)
+    await new Promise((resolve) => setTimeout(resolve, 200))
+  }
+}
+
 interface StoredMessage {
   to: string[]
   subject: string

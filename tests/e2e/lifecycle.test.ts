@@ -56,7 +56,11 @@ describe('the demo sheet from draft to issued', () => {
     await engineer.select('[data-testid=issue-purpose]', 'implementation')
     await engineer.type('[data-testid=sign-password]', demoPassword)
     await engineer.click('[data-testid=lifecycle-confirm]')
+    // The issue is a job: the panel follows it to its end, then shows the sheet as issued.
+    await engineer.waitForSelector('[data-testid=issue-job]')
     await waitForStatus(engineer, 'issued')
+    await engineer.waitForSelector('[data-testid=issue-job][data-status=done]')
+    expect(await engineer.$eval('[data-testid=issue-job]', (element) => (element as HTMLElement).innerText)).toContain('Issued as revision 0')
     await screenshot(engineer, 'lifecycle-3-issued')
     const detail = (await api<SheetDetail>(await apiSignIn('tomas.okafor@example.com', demoPassword), `/api/sheets/${sheetId}`)).body
     expect(detail.revision).toMatchObject({ status: 'issued', label: '0' })

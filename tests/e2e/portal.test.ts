@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import type { Portal } from '../../shared/schemas/portal'
-import { api, apiSignIn, baseUrl } from './api'
+import { api, apiSignIn, baseUrl, issueSheetAndWait } from './api'
 import { launchBrowser, screenshot, signIn, type TestBrowser } from './browser'
 
 let chromium: TestBrowser
@@ -30,12 +30,17 @@ beforeAll(async () => {
   }
   await step(engineer, 'submit', {})
   await step(checker, 'approve', { password: demoPassword })
-  revisionId = (await step(engineer, 'issue', { purpose: 'implementation', password: demoPassword })).revisionId
+  const issue = async () => {
+    const issued = await issueSheetAndWait(engineer, created.body.id, { version: 1, purpose: 'implementation', password: demoPassword })
+    expect(issued.job?.status, JSON.stringify(issued.job ?? issued.answer)).toBe('done')
+    return issued.issued!
+  }
+  revisionId = (await issue()).revisionId
   reissue = async () => {
     await step(engineer, 'revise', {})
     await step(engineer, 'submit', {})
     await step(checker, 'approve', { password: demoPassword })
-    return step(engineer, 'issue', { purpose: 'implementation', password: demoPassword })
+    return issue()
   }
 }, 120_000)
 afterAll(async () => {

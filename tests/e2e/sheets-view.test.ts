@@ -13,6 +13,7 @@ import { READABLE_SCALE } from '../../app/utils/texWriteOut'
 import type { MySheetPage, SheetDetail, SheetPage } from '../../shared/schemas/sheets'
 import type { Page as ListPage } from '../../shared/schemas/lists'
 import type { ProjectRow } from '../../shared/schemas/projects'
+import { pdfPageTexts } from '../support/poppler'
 import { api, apiSignIn, baseUrl } from './api'
 import { clearAndType, launchBrowser, screenshot, screenshotDir, signIn, textOf, typesetTexOf, bareTex, type TestBrowser } from './browser'
 
@@ -261,8 +262,7 @@ describe('the print view', () => {
       mkdirSync(screenshotDir, { recursive: true })
       const pdfPath = join(screenshotDir, `print-${tag}.pdf`)
       writeFileSync(pdfPath, pdf)
-      const text = execFileSync('pdftotext', ['-layout', pdfPath, '-']).toString()
-      const pages = text.split('\f').filter((sheet) => sheet.trim())
+      const pages = pdfPageTexts(pdfPath)
       expect(pages.length).toBeGreaterThan(1)
       pages.forEach((sheet, index) => {
         expect(sheet).toContain(`Page ${index + 1} of ${pages.length}`)

@@ -7,7 +7,7 @@ import { join } from 'node:path'
 import type { ElementHandle } from 'puppeteer-core'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { api, apiSignIn, baseUrl } from './api'
+import { api, apiSignIn, baseUrl, issueSheetAndWait } from './api'
 import { launchBrowser, screenshot, textOf, type TestBrowser } from './browser'
 
 let chromium: TestBrowser
@@ -33,7 +33,8 @@ async function issuedSheet() {
     expect((await api(cookie, `/api/sheets/${made.body.id}/${action}`, { method: 'POST', body: { version: 1, ...body } })).status).toBe(200)
   await step(engineer, 'submit', {})
   await step(checker, 'approve', { password: demoPassword })
-  await step(engineer, 'issue', { purpose: 'review', password: demoPassword })
+  const issued = await issueSheetAndWait(engineer, made.body.id, { version: 1, purpose: 'review', password: demoPassword })
+  expect(issued.job?.status, JSON.stringify(issued.job ?? issued.answer)).toBe('done')
   const detail = await api<{ revision: { id: number } }>(engineer, `/api/sheets/${made.body.id}`)
   const download = await fetch(`${baseUrl()}/api/revisions/${detail.body.revision.id}/pdf`, { headers: { cookie: engineer } })
   expect(download.status).toBe(200)

@@ -6,7 +6,6 @@
 // history page shows both revisions, their signatures and the change. Only the set-up (a project and a sheet of
 // their own) goes through the API; every step of the life is a click or a keystroke, and the server's stored rows
 // are the witness of what the screens show.
-import { execFileSync } from 'node:child_process'
 import { createHash } from 'node:crypto'
 import { mkdtemp, readdir, readFile, rm } from 'node:fs/promises'
 import { tmpdir } from 'node:os'
@@ -18,6 +17,7 @@ import { demoPassword } from '../../scripts/demo-people'
 import type { Page as ListPage } from '../../shared/schemas/lists'
 import type { ProjectRow } from '../../shared/schemas/projects'
 import type { SheetDetail } from '../../shared/schemas/sheets'
+import { pdfPageCount, pdfPageTexts } from '../support/poppler'
 import { api, apiSignIn, baseUrl, mailApiUrl } from './api'
 import { clearAndType, fillSignIn, launchBrowser, screenshot, signIn, textOf, type TestBrowser } from './browser'
 
@@ -228,9 +228,9 @@ describe('a sheet from draft to its second revision, in the browser', () => {
     expect(createHash('sha256').update(bytes).digest('hex')).toBe(pdfRow!.sha256)
     // Read back as a client's reader would (Debian's poppler-utils): the title block names the checker on every
     // page, and the sign-off block both signatures over the content the signatures bind to.
-    const text = execFileSync('pdftotext', ['-layout', file, '-'], { encoding: 'utf8' })
+    const text = pdfPageTexts(file).join('\f')
     expect(text).not.toContain('not yet checked')
-    const pages = Number(execFileSync('pdfinfo', [file], { encoding: 'utf8' }).match(/^Pages:\s+(\d+)/m)![1])
+    const pages = pdfPageCount(file)
     expect(text.match(/Henrik Salo, \d+ \w+ \d{4}/g)?.length).toBeGreaterThanOrEqual(pages)
     expect(text.match(new RegExp(`Signed electronically over content ${issued.lifecycle.contentHash.slice(0, 12)}`, 'g'))).toHaveLength(2)
     await client.click(`${row} [data-acknowledge]`)

@@ -13,7 +13,7 @@ import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3'
 import { PDFDocument, StandardFonts } from 'pdf-lib'
 import { afterAll, beforeAll, describe, expect, it, inject } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { database } from './support/client'
+import { database, issueSheetAndWait } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -211,8 +211,8 @@ describe('who sees and changes attachments', () => {
     // In check: no more changes.
     expect((await upload(sheet.id, 'late.csv', csv)).status).toBe(409)
     expect((await cast.checker.post(`/api/sheets/${sheet.id}/approve`, { version: 1, password: demoPassword })).status).toBe(200)
-    const issued = await cast.engineer.post(`/api/sheets/${sheet.id}/issue`, { version: 1, purpose: 'information', password: demoPassword })
-    expect(issued.status).toBe(200)
+    const { issued, job } = await issueSheetAndWait(cast.engineer, sheet.id, { version: 1, purpose: 'information', password: demoPassword })
+    expect(job?.body.status, JSON.stringify(job?.body)).toBe('done')
 
     const listed = await cast.client.get(`/api/sheets/${sheet.id}/attachments`)
     expect(listed.status).toBe(200)
@@ -228,7 +228,7 @@ describe('who sees and changes attachments', () => {
     expect((await upload(sheet.id, 'late.csv', csv)).status).toBe(409)
 
     const sql = database()
-    const revisionId = issued.body.revisionId as number
+    const revisionId = issued.revisionId as number
     const attempts = [
       sql`update attachments set name = 'renamed.csv' where id = ${made.body.id}`,
       sql`update attachments set revision_id = revision_id where id = ${made.body.id}`,

@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { database, finishedJob, newPerson, signedIn, unique, type Client } from './support/client'
+import { database, finishedJob, issueSheetAndWait, newPerson, signedIn, unique, type Client } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -61,6 +61,27 @@ describe('races', () => {
         expect([403, 409]).toContain(approve.status)
         expect(signed).toHaveLength(0)
       }
+    }
+  })
+
+  it('two issues of one sheet at once queue one job, which issues it once', async () => {
+    // Each round renders one PDF: three rounds are enough to meet the race both ways and keep the suite quick.
+    for (let round = 0; round < 3; round++) {
+      const sheet = await newSheet(cast.engineer, cast.demoProjectId)
+      expect((await cast.engineer.post(`/api/sheets/${sheet.id}/submit`, { version: 1 })).status).toBe(200)
+      expect((await cast.checker.post(`/api/sheets/${sheet.id}/approve`, { version: 1, password: demoPassword })).status).toBe(200)
+      const body = { version: 1, purpose: 'review', password: demoPassword }
+      // The second request takes the sheet's lock after the first has queued its job, and is refused.
+      const answers = await Promise.all([issueSheetAndWait(cast.engineer, sheet.id, body), issueSheetAndWait(cast.engineer, sheet.id, body)])
+      expect(statuses(answers.map((answer) => answer.request))).toEqual([202, 409])
+      const refusal = answers.find((answer) => answer.request.status === 409)!.request
+      expect(refusal.body.data.reason).toMatch(/^This sheet is being issued already \(job \d+\)$/)
+      expect(answers.find((answer) => answer.request.status === 202)!.job!.body.status).toBe('done')
+      expect((await database()`select count(*)::int as n from jobs where kind = 'sheet.issue' and (payload->>'sheetId')::int = ${sheet.id}`)[0]!.n).toBe(1)
+      const [stored] = await database()`select
+          (select count(*)::int from signatures s join sheet_revisions r on r.id = s.revision_id where r.sheet_id = ${sheet.id} and s.meaning = 'issued') as signatures,
+          (select count(*)::int from revision_pdfs p join sheet_revisions r on r.id = p.revision_id where r.sheet_id = ${sheet.id}) as pdfs`
+      expect(stored).toEqual({ signatures: 1, pdfs: 1 })
     }
   })
 

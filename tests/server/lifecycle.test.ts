@@ -1,12 +1,16 @@
 // A sheet's life through the routes (product.md, "A sheet's life"; server/services/lifecycle.ts): each transition,
-// who may take it, the version it names, the signature bound to the content's hash, the issue with its PDF and
-// label, the e-mail written to the outbox in the same transaction, and the database's refusal to change issued work.
+// who may take it, the version it names, the signature bound to the content's hash, the issue (a job) with its PDF
+// and label, the e-mail written to the outbox in the same transaction, and the database's refusal to change issued work.
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
-import { beforeAll, describe, expect, it } from 'vitest'
+import { drizzle } from 'drizzle-orm/postgres-js'
+import postgres from 'postgres'
+import { beforeAll, describe, expect, inject, it } from 'vitest'
+import * as schema from '../../server/db/schema'
+import { runSheetIssue, type SheetIssueJob } from '../../server/services/lifecycle'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, demo, issuePackageAndWait, newPerson, signedIn, unique } from './support/client'
-import { newSheet, theCast, type Cast } from './support/sheets'
+import { Client, database, demo, issuePackageAndWait, issueSheetAndWait, newPerson, signedIn, unique } from './support/client'
+import { lastAudit, newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
 beforeAll(async () => {
@@ -56,19 +60,19 @@ describe('the life of one sheet', () => {
     expect(signature.contentHash).toBe(hashOf(detail.revision.document))
     expect(detail.lifecycle.actions.issue).toEqual({ allowed: true })
 
-    const issued = await act(cast.engineer, sheet.id, 'issue', { version: v2, purpose: 'review', password: demoPassword })
-    expect(issued.status).toBe(200)
-    expect(issued.body).toMatchObject({ status: 'issued', label: 'A' })
-    const [pdf] = await database()`select p.sha256, p.bytes, p.file_name from revision_pdfs p where p.revision_id = ${issued.body.revisionId}`
+    const { request, issued } = await issueSheetAndWait(cast.engineer, sheet.id, { version: v2, purpose: 'review', password: demoPassword })
+    expect(request.status).toBe(202)
+    expect(issued).toMatchObject({ status: 'issued', label: 'A' })
+    const [pdf] = await database()`select p.sha256, p.bytes, p.file_name from revision_pdfs p where p.revision_id = ${issued.revisionId}`
     expect(pdf!.sha256).toBe(createHash('sha256').update(pdf!.bytes).digest('hex'))
     expect(Buffer.from(pdf!.bytes).subarray(0, 5).toString()).toBe('%PDF-')
-    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/?revision=${issued.body.revisionId}\n%`}`
+    const [mailed] = await database()`select count(*)::int as n from outbox where kind = 'sheet.issued' and recipient = ${demo.client} and body like ${`%/?revision=${issued.revisionId}\n%`}`
     expect(mailed!.n).toBe(1)
     const after = (await cast.client.get(`/api/sheets/${sheet.id}`)).body
     expect(after.lifecycle.signatures.map((s: { meaning: string; holds: boolean }) => [s.meaning, s.holds])).toEqual([['checked and approved', true], ['issued', true]])
 
     // A second issue is refused from the state it no longer leaves; the next revision starts as a copy.
-    expect((await act(cast.engineer, sheet.id, 'issue', { version: v2, purpose: 'review', password: demoPassword })).status).toBe(409)
+    expect((await issueSheetAndWait(cast.engineer, sheet.id, { version: v2, purpose: 'review', password: demoPassword })).request.status).toBe(409)
     const revised = await act(cast.engineer, sheet.id, 'revise', { version: v2 })
     expect(revised.body).toMatchObject({ status: 'draft', version: 1 })
     const next = (await cast.engineer.get(`/api/sheets/${sheet.id}`)).body
@@ -78,8 +82,8 @@ describe('the life of one sheet', () => {
     // Revision 1 issued for implementation: numbered from 0, and revision A is superseded.
     expect((await act(cast.engineer, sheet.id, 'submit', { version: 1 })).status).toBe(200)
     expect((await act(cast.checker, sheet.id, 'approve', { version: 1, password: demoPassword })).status).toBe(200)
-    const second = await act(cast.engineer, sheet.id, 'issue', { version: 1, purpose: 'implementation', password: demoPassword })
-    expect(second.body.label).toBe('0')
+    const second = await issueSheetAndWait(cast.engineer, sheet.id, { version: 1, purpose: 'implementation', password: demoPassword })
+    expect(second.issued.label).toBe('0')
     const statuses = await database()`select revision_index, status, label, purpose from sheet_revisions where sheet_id = ${sheet.id} order by revision_index`
     expect(statuses.map((row) => [row.revision_index, row.status, row.label, row.purpose])).toEqual([
       [0, 'superseded', 'A', 'review'],
@@ -123,6 +127,79 @@ describe('the life of one sheet', () => {
   })
 })
 
+describe('a sheet’s issue is a job', () => {
+  const approvedSheet = async () => {
+    const sheet = await newSheet(cast.engineer, cast.demoProjectId)
+    expect((await act(cast.engineer, sheet.id, 'submit', { version: 1 })).status).toBe(200)
+    expect((await act(cast.checker, sheet.id, 'approve', { version: 1, password: demoPassword })).status).toBe(200)
+    return sheet
+  }
+  const jobsOf = (sheetId: number) => database()`select id from jobs where kind = 'sheet.issue' and (payload->>'sheetId')::int = ${sheetId}`
+
+  it('answers 202 at once and its job issues the sheet exactly once; the job run again answers that issue', async () => {
+    const sheet = await approvedSheet()
+    // Answered in the request, with no job queued: a wrong password (403), a stale version (409 with the sheet).
+    expect((await act(cast.engineer, sheet.id, 'issue', { version: 1, purpose: 'review', password: 'not the password' })).status).toBe(403)
+    const stale = await act(cast.engineer, sheet.id, 'issue', { version: 2, purpose: 'review', password: demoPassword })
+    expect(stale.status).toBe(409)
+    expect(stale.body.data.current.revision.status).toBe('approved')
+    expect(await jobsOf(sheet.id)).toHaveLength(0)
+
+    const { request, job, issued } = await issueSheetAndWait(cast.engineer, sheet.id, { version: 1, purpose: 'review', password: demoPassword })
+    expect(request.status).toBe(202)
+    expect(Object.keys(request.body)).toEqual(['jobId'])
+    const jobId = request.body.jobId as number
+    expect(job!.body).toMatchObject({ kind: 'sheet.issue', status: 'done', attempts: 1, error: null, progress: { done: 1, total: 1, what: 'issued' } })
+    expect(issued).toEqual({ sheetId: sheet.id, revisionId: sheet.detail.revision.id, status: 'issued', version: 1, label: 'A' })
+    expect((await lastAudit('sheet.issue-requested', `/api/sheets/${sheet.id}/issue`))!.detail).toMatchObject({ jobId, revisionId: issued.revisionId, version: 1, purpose: 'review' })
+    const stored = async () =>
+      (
+        await database()`select
+          (select count(*)::int from revision_pdfs where revision_id = ${issued.revisionId} and job_id = ${jobId}) as pdfs,
+          (select count(*)::int from signatures where revision_id = ${issued.revisionId} and meaning = 'issued') as signatures,
+          (select count(*)::int from outbox where kind = 'sheet.issued' and body like ${`%/?revision=${issued.revisionId}\n%`}) as mails,
+          (select count(*)::int from audit_events where action = 'sheet.issued' and (detail->>'jobId')::bigint = ${jobId}) as audited`
+      )[0]
+    const [contacts] = await database()`select count(*)::int as n from people p join projects j on j.organisation_id = p.organisation_id
+      where j.id = ${cast.demoProjectId} and p.active and 'client' = any(p.roles)`
+    const once = await stored()
+    expect(once).toEqual({ pdfs: 1, signatures: 1, mails: contacts!.n, audited: 1 })
+    expect(contacts!.n).toBeGreaterThan(0)
+
+    // The job run again (its runner died after the issue committed, before the job was marked done): it finds the
+    // PDF stored under its job id and answers that issue; it renders nothing and stores nothing more.
+    const own = postgres(inject('databaseUrl'), { max: 2, onnotice: () => {} })
+    try {
+      const [row] = await own`select payload from jobs where id = ${jobId}`
+      const nothingRenders = async (): Promise<never> => {
+        throw new Error('a retried job whose issue exists must not render')
+      }
+      const again = await runSheetIssue(drizzle(own, { schema }), row!.payload as SheetIssueJob, { jobId, attempt: 2, signal: new AbortController().signal, progress: async () => {} }, { renderSheetPdf: nothingRenders })
+      expect(again).toEqual(issued)
+      expect(await stored()).toEqual(once)
+    } finally {
+      await own.end()
+    }
+  })
+
+  it('refuses an issue while one of the sheet’s package is in hand (409, audited) and queues nothing', async () => {
+    const sheet = await approvedSheet()
+    // A package issue naming the sheet, held by a runner: its lease far off, so no runner of the test app claims it.
+    const payload = database().json({ packageId: 0, sheets: [{ sheetId: sheet.id, version: 1 }] })
+    const [held] = await database()`insert into jobs (kind, payload, status, attempts, claimed_until, created_by)
+      values ('package.issue', ${payload}, 'running', 1, now() + interval '1 hour', ${cast.ids.engineer}) returning id`
+    try {
+      const refused = await act(cast.engineer, sheet.id, 'issue', { version: 1, purpose: 'review', password: demoPassword })
+      expect(refused.status).toBe(409)
+      expect(refused.body.data.reason).toBe(`This sheet is being issued already (job ${held!.id})`)
+      expect((await lastAudit('sheet.issue-refused', `/api/sheets/${sheet.id}/issue`))!.status).toBe(409)
+      expect(await jobsOf(sheet.id)).toHaveLength(0)
+    } finally {
+      await database()`update jobs set status = 'failed', claimed_until = null, finished_at = now(), last_error = 'a test’s stand-in' where id = ${held!.id}`
+    }
+  })
+})
+
 describe('comments and approval', () => {
   it('refuses approval while a comment is open, and approves once it is resolved', async () => {
     const sheet = await newSheet(cast.engineer, cast.demoProjectId)
@@ -146,9 +223,9 @@ describe('issued work is frozen by the database', () => {
     const sheet = await newSheet(cast.engineer, cast.demoProjectId)
     await act(cast.engineer, sheet.id, 'submit', { version: 1 })
     await act(cast.checker, sheet.id, 'approve', { version: 1, password: demoPassword })
-    const issued = await act(cast.engineer, sheet.id, 'issue', { version: 1, purpose: 'information', password: demoPassword })
-    expect(issued.status).toBe(200)
-    const revisionId = issued.body.revisionId as number
+    const { issued } = await issueSheetAndWait(cast.engineer, sheet.id, { version: 1, purpose: 'information', password: demoPassword })
+    expect(issued?.status).toBe('issued')
+    const revisionId = issued.revisionId as number
     const sql = database()
     const attempts = [
       sql`update sheet_revisions set document = '{}'::jsonb where id = ${revisionId}`,

@@ -1,7 +1,7 @@
 // A package issue that dies with its app server. A second app server with a database of its own (so the test app's
 // job runner never claims its jobs), migrated and seeded with the demo scenario: its package P01 of four sheets is
-// approved and issued. First with a Chromium that cannot start: the job fails naming the sheet and why, and nothing
-// is stored. Then with the real one: the server is killed with SIGKILL while it renders, started again, and the
+// approved and issued. First with a Chromium that cannot start: the issue of one sheet on its own, then the package's,
+// each fail their job naming the sheet and why, and nothing is stored. Then with the real one: the server is killed with SIGKILL while it renders, started again, and the
 // job is claimed again when its lease runs out: the package is issued exactly once, nothing half issued, and every
 // e-mail reaches the sink exactly once (the sink keeps each Message-ID; a copy would show as a second message).
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process'
@@ -184,6 +184,23 @@ const storedCounts = async () => {
       (select count(*)::int from outbox where kind = 'sheet.issued' and subject like ${`%${title}%`}) as mails`
   return row!
 }
+
+it('fails a single sheet’s issue whose render cannot be made, naming the sheet and why, and stores nothing', async () => {
+  const sheetId = sheetIds[0]!
+  const [sheet] = await sql`select number from sheets where id = ${sheetId}`
+  const queued = await engineer('POST', `/api/sheets/${sheetId}/issue`, { version: body.sheets[0]!.version, purpose: 'review', password: demoPassword })
+  expect(queued.status).toBe(202)
+  let job: any
+  expect(await until(async () => ['done', 'failed'].includes((job = (await engineer('GET', `/api/jobs/${queued.body.jobId}`)).body).status), 300, 100)).toBe(true)
+  expect(job.status).toBe('failed')
+  expect(job.attempts).toBe(3)
+  expect(job.error).toMatch(new RegExp(`^Sheet ${sheet!.number} could not be printed: .+`))
+  expect(await storedCounts()).toEqual({ issues: 0, pdfs: 0, issued: 0, signatures: 0, mails: 0 })
+  expect((await sql`select count(*)::int as n from outbox where kind = 'sheet.issued' and subject like ${`%${sheet!.number}%`}`)[0]!.n).toBe(0)
+  const [revision] = await sql`select status, label from sheet_revisions where sheet_id = ${sheetId} order by revision_index desc limit 1`
+  expect(revision).toEqual({ status: 'approved', label: null })
+  console.log(`sheet render failure: "${job.error.slice(0, 160)}"`)
+}, 60_000)
 
 it('fails a render that cannot be made naming the sheet and why, and stores nothing', async () => {
   const queued = await engineer('POST', `/api/packages/${packageId}/issue`, body)

@@ -2,7 +2,6 @@
 // client's reader would: the transmittal's index gives each sheet's page range, and each range starts where the
 // sheet's own title block and "Page 1 of m" are and ends at its "Page m of m"; every page carries "package page p
 // of P"; every font is embedded (ISO 32000-1, the PDF 1.7 standard, for what an embedded font is: from memory).
-import { execFileSync } from 'node:child_process'
 import { mkdtempSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
@@ -12,26 +11,11 @@ import { drizzle } from 'drizzle-orm/postgres-js'
 import * as schema from '../../server/db/schema'
 import { runPackageIssue, type PackageIssueJob } from '../../server/services/lifecycle'
 import { demoPassword } from '../../scripts/demo-people'
-import { database, unique } from './support/client'
+import { pdfFonts, pdfInfo, pdfPageTexts } from '../support/poppler'
+import { database, issueSheetAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 const dir = mkdtempSync(join(tmpdir(), 'loopwright-package-test-'))
-const poppler = (tool: string, ...args: string[]) => execFileSync(tool, args, { encoding: 'utf8' })
-function pagesOf(path: string): string[] {
-  const count = Number(/Pages:\s+(\d+)/.exec(poppler('pdfinfo', path))![1])
-  return Array.from({ length: count }, (_, index) => poppler('pdftotext', '-layout', '-f', String(index + 1), '-l', String(index + 1), path, '-'))
-}
-/** pdffonts' rows: the font's name and whether it is embedded. */
-function fontsOf(path: string) {
-  return poppler('pdffonts', path)
-    .trim()
-    .split('\n')
-    .slice(2)
-    .map((line) => {
-      const fields = line.trim().split(/\s+/)
-      return { name: fields[0]!, embedded: fields.at(-5) }
-    })
-}
 
 let cast: Cast
 beforeAll(async () => {
@@ -57,7 +41,8 @@ describe('a package issue', () => {
       await act(sheet.id, 'approve', { version: 1, password: demoPassword })
     }
     // The first sheet is issued on its own first, so the package carries it at that revision.
-    await act(sheets[0]!.id, 'issue', { version: 1, purpose: 'information', password: demoPassword })
+    const single = await issueSheetAndWait(cast.engineer, sheets[0]!.id, { version: 1, purpose: 'information', password: demoPassword })
+    expect(single.job?.body.status, JSON.stringify(single.job?.body ?? single.request.body)).toBe('done')
 
     const body = { purpose: 'review', password: demoPassword, sheets: sheets.map((sheet) => ({ sheetId: sheet.id, version: 1 })) }
     const wrongPassword = await cast.engineer.post(`/api/packages/${made.body.id}/issue`, { ...body, password: 'not the password' })
@@ -89,7 +74,7 @@ describe('a package issue', () => {
     expect(stored!.file_name).toBe(`NWD-214_${made.body.number}_rev-A.pdf`)
     const path = join(dir, 'package.pdf')
     writeFileSync(path, stored!.bytes)
-    const pages = pagesOf(path)
+    const pages = pdfPageTexts(path)
     expect(pages).toHaveLength(stored!.pages)
     expect(job.result.pages).toBe(pages.length)
 
@@ -121,14 +106,14 @@ describe('a package issue', () => {
 
     // Package page numbers on every page, in the stamp's Noto face; every font embedded.
     pages.forEach((text, index) => expect(text, `page ${index + 1}`).toContain(`package page ${index + 1} of ${pages.length}`))
-    const fonts = fontsOf(path)
+    const fonts = pdfFonts(path)
     expect(fonts.length).toBeGreaterThan(0)
-    for (const font of fonts) expect(font.embedded, font.name).toBe('yes')
+    for (const font of fonts) expect(font.embedded, font.name).toBe(true)
     expect(fonts.some((font) => /NotoSans-Regular/.test(font.name))).toBe(true)
     expect(fonts.some((font) => /Helvetica|Times|Courier/.test(font.name))).toBe(false)
-    const info = poppler('pdfinfo', path)
-    expect(info).toMatch(new RegExp(`Title:\\s+NWD-214 package ${made.body.number}`))
-    expect(info).toMatch(/Subject:\s+Calculation package .*, issued for review, project NWD-214/)
+    const info = pdfInfo(path)
+    expect(info.Title).toMatch(new RegExp(`^NWD-214 package ${made.body.number}`))
+    expect(info.Subject).toMatch(/^Calculation package .*, issued for review, project NWD-214/)
     // Each sheet's issue record (the one issued earlier carried with its own PDF) names its checker under a label like
     // the others, never the bare role.
     const text = pages.join('\n')

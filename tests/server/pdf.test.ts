@@ -13,6 +13,7 @@ import type { AddressInfo } from 'node:net'
 import { beforeAll, describe, expect, inject, it } from 'vitest'
 import { formatNumber } from '../../app/utils/format'
 import { productCautions } from '../../app/utils/cautions'
+import { pdfFonts, pdfInfo, pdfPageTexts, poppler } from '../support/poppler'
 import { database } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
@@ -21,11 +22,6 @@ function saved(name: string, bytes: Buffer) {
   const path = join(dir, name)
   writeFileSync(path, bytes)
   return path
-}
-const poppler = (tool: string, ...args: string[]) => execFileSync(tool, args, { encoding: 'utf8' })
-function pagesOf(path: string): string[] {
-  const count = Number(/Pages:\s+(\d+)/.exec(poppler('pdfinfo', path))![1])
-  return Array.from({ length: count }, (_, index) => poppler('pdftotext', '-layout', '-f', String(index + 1), '-l', String(index + 1), path, '-'))
 }
 /** Pixels of a page in the preliminary mark's light red (#a12b22 at 11 % on white, about #f1e5e4): green equal to blue, which a plot's orange band is not. */
 function markPixels(path: string, page: number): number {
@@ -39,17 +35,6 @@ function markPixels(path: string, page: number): number {
   }
   return count
 }
-/** pdffonts' rows: name, type (one or two words), encoding, emb, sub, uni, object id and generation. */
-function fontsOf(path: string) {
-  return poppler('pdffonts', path)
-    .trim()
-    .split('\n')
-    .slice(2)
-    .map((line) => {
-      const fields = line.trim().split(/\s+/)
-      return { name: fields[0]!, type: fields.slice(1, -6).join(' '), embedded: fields.at(-5) }
-    })
-}
 /**
  * Every face the PDF uses is one the app ships, embedded as a subset (the six capitals and + of ISO 32000-1
  * §9.6.4): Noto Sans, Serif, Sans Mono, Sans Math, or KaTeX's own. A sign no shipped face holds would show here as
@@ -57,9 +42,9 @@ function fontsOf(path: string) {
  */
 const SHIPPED_FACE = /^[A-Z]{6}\+(NotoSans|NotoSerif|NotoSansMono|NotoSansMath|KaTeX_[A-Za-z0-9]+)-[A-Za-z]+$/
 function expectShippedFacesOnly(path: string) {
-  const fonts = fontsOf(path)
+  const fonts = pdfFonts(path)
   expect(fonts.length).toBeGreaterThan(0)
-  for (const font of fonts) expect(font, font.name).toMatchObject({ name: expect.stringMatching(SHIPPED_FACE), type: 'CID TrueType', embedded: 'yes' })
+  for (const font of fonts) expect(font, font.name).toMatchObject({ name: expect.stringMatching(SHIPPED_FACE), type: 'CID TrueType', embedded: true })
 }
 /**
  * The body of each page: its text between the title block and the bottom margin (A4 in points, as pdftotext
@@ -99,7 +84,7 @@ describe('GET /api/revisions/[id]/pdf', () => {
     const bytes = answer.body as Buffer
     expect(answer.headers.get('x-content-sha256')).toBe(createHash('sha256').update(bytes).digest('hex'))
     const path = saved('draft.pdf', bytes)
-    const pages = pagesOf(path)
+    const pages = pdfPageTexts(path)
     expect(pages.length).toBeGreaterThan(1)
     expectTitleBlockOnEveryPage(pages, [sheet.number, 'Cobalt Ridge Engineering', sheet.detail.loopTag, 'NWD-214', 'Tomás Okafor', '0 (not issued) · Draft', 'not yet checked'])
     // The page count is what the content needs: no page is only a title block (a padded or blank page).
@@ -108,9 +93,9 @@ describe('GET /api/revisions/[id]/pdf', () => {
     // Each page turned to pixels (pdftoppm, 20 dpi) holds the mark's light red (about #f1e6e5 on white).
     for (let page = 1; page <= pages.length; page++) expect(markPixels(path, page), `page ${page}`).toBeGreaterThan(100)
     expectShippedFacesOnly(path)
-    const info = poppler('pdfinfo', path)
-    expect(info).toMatch(new RegExp(`Title:\\s+${sheet.number} Discharge pressure loop, PDF test`))
-    expect(info).toMatch(/Keywords:.*preliminary/)
+    const info = pdfInfo(path)
+    expect(info.Title).toMatch(new RegExp(`^${sheet.number} Discharge pressure loop, PDF test`))
+    expect(info.Keywords).toMatch(/preliminary/)
     const [audit] = await database()`select detail from audit_events where action = 'pdf.downloaded' and subject_id = ${revisionId} order by id desc limit 1`
     expect(audit!.detail).toMatchObject({ preview: true, blockedRequests: [], pages: pages.length })
   })
@@ -122,7 +107,7 @@ describe('GET /api/revisions/[id]/pdf', () => {
     expect(answer.status).toBe(200)
     expect(answer.headers.get('content-disposition')).toBe(`attachment; filename="${sheet.number}_rev-A.pdf"`)
     const path = saved('issued.pdf', answer.body as Buffer)
-    const pages = pagesOf(path)
+    const pages = pdfPageTexts(path)
     expectTitleBlockOnEveryPage(pages, [sheet.number, 'Cobalt Ridge Engineering', sheet.detail.loopTag, 'A · Issued'])
     for (let page = 1; page <= pages.length; page++) expect(bodyTextOf(path, page).length, `page ${page}`).toBeGreaterThan(20)
     expectShippedFacesOnly(path)
@@ -143,7 +128,7 @@ describe('GET /api/revisions/[id]/pdf', () => {
       poles: { re: number; im: number }[]
     }
     const answer = await cast.engineer.get(`/api/revisions/${revisionId}/pdf`)
-    const text = pagesOf(saved('numbers.pdf', answer.body as Buffer)).join(' ').replace(/[\s\u00a0]+/g, ' ')
+    const text = pdfPageTexts(saved('numbers.pdf', answer.body as Buffer)).join(' ').replace(/[\s\u00a0]+/g, ' ')
     // Each figure as the print view formats it (the criteria table, the plots' marks, the step metrics, the poles).
     const printed = [
       formatNumber(result.margins.gain_margin_db, { unit: 'dB' }),
@@ -170,7 +155,7 @@ describe('GET /api/revisions/[id]/pdf', () => {
       expect(answer.status, row.loop_tag).toBe(200)
       const path = saved(`${row.loop_tag}.pdf`, answer.body as Buffer)
       expectShippedFacesOnly(path)
-      const pages = pagesOf(path)
+      const pages = pdfPageTexts(path)
       expectTitleBlockOnEveryPage(pages, [row.number, row.loop_tag, 'Cobalt Ridge Engineering'])
       for (let page = 1; page <= pages.length; page++) {
         expect(bodyTextOf(path, page).length, `${row.loop_tag} page ${page}`).toBeGreaterThan(20)

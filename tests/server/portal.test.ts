@@ -4,7 +4,7 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, issuePackageAndWait, newPerson, signedIn, unique } from './support/client'
+import { Client, database, issuePackageAndWait, issueSheetAndWait, newPerson, signedIn, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -25,7 +25,9 @@ async function act(who: Client, sheetId: number, action: string, body: Record<st
 async function issue(sheetId: number, purpose: string) {
   await act(cast.engineer, sheetId, 'submit', { version: 1 })
   await act(cast.checker, sheetId, 'approve', { version: 1, password: demoPassword })
-  return act(cast.engineer, sheetId, 'issue', { version: 1, purpose, password: demoPassword })
+  const { request, job, issued } = await issueSheetAndWait(cast.engineer, sheetId, { version: 1, purpose, password: demoPassword })
+  if (job?.body.status !== 'done') throw new Error(`issue answered ${request.status}: ${JSON.stringify(job?.body ?? request.body)}`)
+  return issued
 }
 
 beforeAll(async () => {

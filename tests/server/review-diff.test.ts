@@ -5,7 +5,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { formatNumber } from '../../app/utils/format'
 import { demoPassword } from '../../scripts/demo-people'
 import { contentHash } from '../../server/utils/content-hash'
-import { database } from './support/client'
+import { database, issueSheetAndWait } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -15,14 +15,15 @@ beforeAll(async () => {
   cast = await theCast()
   const made = await newSheet(cast.engineer, cast.demoProjectId, { title: 'Booster discharge pressure', loopTag: 'PIC-214-01', template: 'pi-pressure-loop' })
   sheetId = made.id
-  // Revision 0 through its life (submit, approve, issue for review) and revision 1 started from it, by the routes.
+  // Revision 0 through its life (submit, approve, issue for review: a job) and revision 1 started from it, by the routes.
   const step = async (who: typeof cast.engineer, action: string, body: Record<string, unknown>) => {
     const answer = await who.post(`/api/sheets/${sheetId}/${action}`, { version: 1, ...body })
     expect(answer.status, `${action}: ${JSON.stringify(answer.body)}`).toBe(200)
   }
   await step(cast.engineer, 'submit', {})
   await step(cast.checker, 'approve', { password: demoPassword })
-  await step(cast.engineer, 'issue', { purpose: 'review', password: demoPassword })
+  const issue = await issueSheetAndWait(cast.engineer, sheetId, { version: 1, purpose: 'review', password: demoPassword })
+  expect(issue.job?.body.status, JSON.stringify(issue.job?.body ?? issue.request.body)).toBe('done')
   await step(cast.engineer, 'revise', {})
   const document = structuredClone(made.detail.revision.document)
   document.loop.parameters.Kc.value = 1.5

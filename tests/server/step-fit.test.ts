@@ -2,10 +2,10 @@
 // an uploaded step test (an invented plant with seeded noise, support/step-tests.ts) is fitted both ways, a bad row
 // is refused naming it, another project's record is refused and audited, and a rule answers its settings.
 import { beforeAll, describe, expect, it } from 'vitest'
-import { syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
+import { sampleStepTest, syntheticStepCsv } from '../../scripts/lib/synthetic-step-test'
 import { database } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
-import { sampleStepTest, uploadStepTest, uploadText } from './support/step-tests'
+import { uploadStepTest, uploadText } from './support/step-tests'
 
 let cast: Cast
 let sheetId: number

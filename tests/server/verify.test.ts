@@ -4,7 +4,7 @@
 import { createHash } from 'node:crypto'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
-import { Client, database, issuePackageAndWait, unique } from './support/client'
+import { Client, database, issuePackageAndWait, issueSheetAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 let cast: Cast
@@ -27,7 +27,9 @@ async function act(sheetId: number, action: string, body: Record<string, unknown
 async function issue(sheetId: number, version: number, purpose: string) {
   await act(sheetId, 'submit', { version })
   await act(sheetId, 'approve', { version, password: demoPassword })
-  return act(sheetId, 'issue', { version, purpose, password: demoPassword })
+  const { request, job, issued } = await issueSheetAndWait(cast.engineer, sheetId, { version, purpose, password: demoPassword })
+  expect(job?.body.status, JSON.stringify(job?.body ?? request.body)).toBe('done')
+  return issued
 }
 
 describe('POST /api/verify', () => {

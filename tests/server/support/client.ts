@@ -228,3 +228,15 @@ export async function issuePackageAndWait(client: Client, packageId: number, bod
   if (request.status !== 202) return { request, job: null }
   return { request, job: await finishedJob(client, request.body.jobId) }
 }
+
+/**
+ * POST /api/sheets/[id]/issue and, when it is queued (202), the job it started waited for: the answer of the
+ * request (a refusal as it came), the finished job, and `issued`, the job's result once done (the sheet as the
+ * issue left it: `{ sheetId, revisionId, status, version, label }`), else null.
+ */
+export async function issueSheetAndWait(client: Client, sheetId: number, body: unknown): Promise<{ request: Answer; job: Answer | null; issued: any }> {
+  const request = await client.post(`/api/sheets/${sheetId}/issue`, body)
+  if (request.status !== 202) return { request, job: null, issued: null }
+  const job = await finishedJob(client, request.body.jobId)
+  return { request, job, issued: job.body.status === 'done' ? job.body.result : null }
+}

@@ -1,22 +1,7 @@
 // Step-test records for the server tests: an invented plant's sampled step response with seeded noise
 // (scripts/lib/synthetic-step-test.ts), uploaded as a CSV attachment through POST /api/sheets/[id]/attachments.
-import { type SyntheticStepTest, syntheticStepCsv } from '../../../scripts/lib/synthetic-step-test'
+import { type SyntheticStepTest, sampleStepTest, syntheticStepCsv } from '../../../scripts/lib/synthetic-step-test'
 import type { Client } from './client'
-
-/** K = 1.8 (L/h)/%, τ = 12 s, θ = 3.5 s, sampled every 0.2 s, stepped 40 → 50 % at 10 s, noise σ = 0.15 L/h. */
-export const sampleStepTest: SyntheticStepTest = {
-  gain: 1.8,
-  timeConstant: 12,
-  deadTime: 3.5,
-  sampleTime: 0.2,
-  samples: 600,
-  stepTime: 10,
-  outputBefore: 40,
-  outputAfter: 50,
-  baseline: 20,
-  noise: 0.15,
-  seed: 11,
-}
 
 /** Uploads `text` as the file `name` to the sheet's current revision (Client.upload); answers the status and body. */
 export async function uploadText(client: Client, sheetId: number, name: string, text: string | Uint8Array): Promise<{ status: number; body: any }> {
