@@ -10,6 +10,11 @@ const RELATIONS = [' = ', ' \\approx ']
 const SIGNS = [' + ', ' - ']
 const LISTS = [', \\qquad ', ', \\quad ']
 
+/** The control word after a backslash at `at` (`left`, `frac`), or undefined for an escaped character (\{ \, \;). */
+function controlWordAt(tex: string, at: number): string | undefined {
+  return /^[a-zA-Z]+/.exec(tex.slice(at + 1))?.[0]
+}
+
 interface Piece {
   /** What joins this piece to the one before ('' for the first). */
   joint: string
@@ -25,7 +30,7 @@ export function topLevelPieces(tex: string): Piece[] {
   for (let i = 0; i < tex.length; i++) {
     const c = tex[i]!
     if (c === '\\') {
-      const word = /^[a-zA-Z]+/.exec(tex.slice(i + 1))?.[0]
+      const word = controlWordAt(tex, i)
       if (word === 'left') depth++
       else if (word === 'right') depth--
       // A control word is stepped over whole; an escaped character (\{ \, \;) with the backslash.
@@ -59,7 +64,7 @@ function groupEnd(tex: string, from: number): number {
   for (let i = from; i < tex.length; i++) {
     const c = tex[i]!
     if (c === '\\') {
-      const word = /^[a-zA-Z]+/.exec(tex.slice(i + 1))?.[0]
+      const word = controlWordAt(tex, i)
       if (word === 'left') depth++
       else if (word === 'right') depth--
       i += word ? word.length : 1
@@ -93,7 +98,7 @@ function openableGroups(text: string): Array<{ start: number; end: number; inner
         if (topLevelPieces(inner).length > 1) groups.push({ start: i, end, inner })
       }
       i = end - 1
-    } else if (c === '\\') i += /^[a-zA-Z]+/.exec(text.slice(i + 1))?.[0]?.length ?? 1
+    } else if (c === '\\') i += controlWordAt(text, i)?.length ?? 1
   }
   return groups
 }
