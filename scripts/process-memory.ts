@@ -1,4 +1,4 @@
-// Memory of a process with everything it started (the app with its Chromium), read from /proc, for the benches.
+// Processes of a process tree, and their memory, read from /proc: the benches and the crash test of a package issue.
 import { readFileSync, readdirSync } from 'node:fs'
 
 

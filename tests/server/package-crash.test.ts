@@ -12,6 +12,7 @@ import postgres from 'postgres'
 import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
+import { processTree } from '../../scripts/process-memory'
 import { instanceOf } from '../setup/app'
 import { demo } from './support/client'
 
@@ -82,16 +83,8 @@ async function startApp(chromium?: string) {
   app = spawn('node', ['.output/server/index.mjs'], { cwd: root, env: env(chromium), stdio: ['ignore', log, log] })
   expect(await until(async () => (await fetch(`${baseUrl}/api/_auth/session`).catch(() => null))?.ok === true, 150, 200)).toBe(true)
 }
-/** The processes under `pid` (its Chromium and that browser's own), by their ids, deepest last. */
-function descendants(pid: number): number[] {
-  let children: number[] = []
-  try {
-    children = execFileSync('pgrep', ['-P', String(pid)], { encoding: 'utf8' }).trim().split('\n').filter(Boolean).map(Number)
-  } catch {
-    // pgrep exits 1 when there are none
-  }
-  return children.flatMap((child) => [child, ...descendants(child)])
-}
+/** The processes under `pid` (its Chromium and that browser's own), the app itself left out. */
+const descendants = (pid: number): number[] => processTree(pid).filter((child) => child !== pid)
 
 async function stopApp(signal: NodeJS.Signals) {
   if (!app || app.exitCode !== null) return
