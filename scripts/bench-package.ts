@@ -54,6 +54,8 @@ async function main() {
     await preview.arrayBuffer()
 
     const peakBefore = sampler.peak.rssKb
+    await new Promise((resolve) => setTimeout(resolve, 50))
+    sampler.cpuSince()
     const t0 = performance.now()
     const queued = await engineer('POST', `/api/packages/${pack.id}/issue`, { purpose: 'review', password: demoPassword, sheets })
     let job: any
@@ -68,6 +70,7 @@ async function main() {
     const seconds = (performance.now() - t0) / 1000
     await new Promise((resolve) => setTimeout(resolve, 100))
     if (job.status !== 'done') throw new Error(`the package job failed: ${job.error}`)
+    const cpu = sampler.cpuSince()
     const ownSeconds = (Date.parse(job.finishedAt) - Date.parse(job.createdAt)) / 1000
     const mb = sampler.peak.rssKb / 1024
     console.log(`\nPackage of ${SHEETS} sheets (every template of sheets/ in turn), POST /api/packages/[id]/issue to its job seen done, warm browser:`)
@@ -79,6 +82,7 @@ async function main() {
     console.log(
       `  peak memory of the app and its browser (${sampler.peak.processes} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(sampler.peak.pssKb / 1024).toFixed(0)} MiB; before the issue ${(peakBefore / 1024).toFixed(0)} MiB`,
     )
+    console.log(`  CPU seconds used during the issue, by process: ${cpu.map(([kind, seconds]) => `${kind} ${seconds.toFixed(2)}`).join(', ')} (total ${cpu.reduce((sum, [, seconds]) => sum + seconds, 0).toFixed(2)} on ${cpus().length} cores)`)
     console.log(`  largest processes at the peak (MiB RSS): ${sampler.peak.largest}`)
     console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
   } finally {

@@ -35,11 +35,47 @@ export function sumKb(pids: number[], file: 'status' | 'smaps_rollup', field: st
   return total
 }
 
-/** Samples the tree's summed RSS and PSS every `everyMs` until stopped; answers the peaks. */
+/** Seconds of CPU (user and system, /proc/PID/stat fields 14 and 15) a process has used so far; 0 once ended. */
+function cpuSecondsOf(pid: number): number {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, 'utf8')
+    const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ')
+    // Fields after the command name start at field 3 (state): utime is field 14, stime 15, in clock ticks (100 a second on Linux).
+    return (Number(fields[11]) + Number(fields[12])) / 100
+  } catch {
+    return 0
+  }
+}
+
+/** What a process is, for a reader of CPU figures: the app (node), Chromium's browser, or the --type of another. */
+function kindOf(pid: number): string {
+  try {
+    const line = readFileSync(`/proc/${pid}/cmdline`, 'utf8')
+    if (!line.includes('chromium')) return 'app child'
+    const type = /--type=([\w-]+)/.exec(line)?.[1]
+    const sub = /--utility-sub-type=([\w.]+)/.exec(line)?.[1]
+    return type ? (sub ? `${type} ${sub.split('.')[0]}` : type) : 'chromium'
+  } catch {
+    return 'ended'
+  }
+}
+
+/**
+ * Samples the tree's summed RSS and PSS every `everyMs` until stopped; answers the peaks. `cpuSince()` answers the
+ * CPU seconds each kind of process used since the last call (a process seen in a sample keeps its last figure after
+ * it ends, so a renderer closed meanwhile still counts up to its last sample).
+ */
 export function sampleTree(root: number, everyMs = 25) {
   const peak = { rssKb: 0, pssKb: 0, processes: 0, largest: '' }
+  const cpu = new Map<number, { kind: string; seconds: number }>()
+  const counted = new Map<number, number>()
   const timer = setInterval(() => {
     const tree = processTree(root)
+    for (const pid of tree) {
+      const seconds = cpuSecondsOf(pid)
+      // Read each time: a process just forked by Chromium shows its parent's command line until it has started.
+      if (seconds > 0) cpu.set(pid, { kind: pid === root ? 'app' : kindOf(pid), seconds })
+    }
     const rss = sumKb(tree, 'status', 'VmRSS')
     if (rss > peak.rssKb) {
       peak.rssKb = rss
@@ -48,7 +84,15 @@ export function sampleTree(root: number, everyMs = 25) {
     }
     peak.pssKb = Math.max(peak.pssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
   }, everyMs)
-  return { peak, stop: () => clearInterval(timer) }
+  const cpuSince = () => {
+    const byKind = new Map<string, number>()
+    for (const [pid, { kind, seconds }] of cpu) {
+      byKind.set(kind, (byKind.get(kind) ?? 0) + seconds - (counted.get(pid) ?? 0))
+      counted.set(pid, seconds)
+    }
+    return [...byKind].filter(([, seconds]) => seconds >= 0.005).sort((a, b) => b[1] - a[1])
+  }
+  return { peak, cpuSince, stop: () => clearInterval(timer) }
 }
 
 /** The three largest processes of the tree by RSS, "name MiB", for the reader of a figure. */

@@ -22,6 +22,16 @@ export interface RenderedPdf {
   fileName: string
   /** Requests of the page that were refused for leaving the app (none expected: the page loads only its own files). */
   blockedRequests: string[]
+  /** Milliseconds of each part of a sheet's render, in order (a preview answers them as Server-Timing; the bench reads them). */
+  timings?: RenderTimings
+}
+
+/** Where a sheet's render spends its time: waiting for a tab, the print view until ready, Chromium's print, pdf-lib's metadata. */
+export interface RenderTimings {
+  queue: number
+  ready: number
+  print: number
+  finish: number
 }
 
 export interface SheetRenderOptions {
@@ -62,7 +72,10 @@ async function launch() {
       // No zygote processes and no spare renderer kept waiting: fewer processes, less memory (scripts/bench-pdf.ts).
       '--no-zygote',
       '--in-process-gpu',
-      '--disable-features=SpareRendererForSitePerProcess,AudioServiceOutOfProcess',
+      // WebUIOmniboxPopup, WebUIOmniboxAimPopup: the address bar's suggestion pop-ups, preloaded for every window
+      // in a renderer of their own (chrome://omnibox-popup.top-chrome, seen in browser.targets()) though nobody types
+      // in a headless one; that renderer held about 100 MiB PSS (measured with a scratch launch of this browser).
+      '--disable-features=SpareRendererForSitePerProcess,AudioServiceOutOfProcess,WebUIOmniboxPopup,WebUIOmniboxAimPopup',
       '--enable-features=NetworkServiceInProcess2',
       ...(process.env.LOOPWRIGHT_PDF_JS_FLAGS ? [`--js-flags=${process.env.LOOPWRIGHT_PDF_JS_FLAGS}`] : []),
     ],
@@ -207,6 +220,8 @@ export function loopbackOrigin() {
 interface Printed {
   bytes: Uint8Array
   blockedRequests: string[]
+  /** performance.now() when a tab was had, the view was ready, and the print was back. */
+  marks: { tab: number; ready: number; printed: number }
 }
 
 /**
@@ -216,6 +231,7 @@ interface Printed {
 function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, leavesApp: boolean): Promise<Printed> {
   return withTab(async (tab) => {
     const { page } = tab
+    const tabAt = performance.now()
     tab.blocked = []
     const refused = new Promise<never>((_, reject) => {
       tab.onRefused = (status) => reject(new RenderError(`The print data answered ${status}`))
@@ -230,9 +246,10 @@ function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, le
         }),
         refused,
       ])
+      const readyAt = performance.now()
       const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, timeout: READY_TIMEOUT_MS })
       tab.warm = !leavesApp
-      return { bytes, blockedRequests: [...tab.blocked] }
+      return { bytes, blockedRequests: [...tab.blocked], marks: { tab: tabAt, ready: readyAt, printed: performance.now() } }
     } finally {
       tab.onRefused = null
     }
@@ -304,6 +321,7 @@ export function printHtmlForTest(html: string, readySelector: string): Promise<P
 
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
 export async function renderSheetPdf(revisionId: number, options: SheetRenderOptions = {}): Promise<RenderedPdf> {
+  const startedAt = performance.now()
   const detail = await revisionDetail(useDb(), revisionId)
   if (!detail) throw new RenderError(`There is no revision ${revisionId}`)
   const token = makeRenderToken(revisionId, options.issue ?? null)
@@ -325,11 +343,13 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   pdf.setCreationDate(at)
   pdf.setModificationDate(at)
   const bytes = Buffer.from(await pdf.save())
+  const { marks } = printed
   return {
     bytes,
     sha256: sha256Hex(bytes),
     pages: pdf.getPageCount(),
     fileName: sheetPdfFileName(detail.number, revision),
     blockedRequests: printed.blockedRequests,
+    timings: { queue: marks.tab - startedAt, ready: marks.ready - marks.tab, print: marks.printed - marks.ready, finish: performance.now() - marks.printed },
   }
 }
