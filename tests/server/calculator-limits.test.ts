@@ -39,7 +39,7 @@ describe('per-person limits on calculations', () => {
     const flooder = await signedIn(demo.secondEngineer)
     const engineer = await signedIn(demo.engineer)
     const order: string[] = []
-    // Five heavy loops at once (each runs to the 10 s time limit): three are taken, one running and two waiting.
+    // Five heavy loops at once (each runs to the tests' 4 s time limit): three are taken, one running and two waiting.
     const flood = Array.from({ length: 5 }, (_, i) =>
       flooder.post('/api/calculate', heavyLoop()).then((answer) => {
         order.push(`heavy ${answer.status}`)

@@ -73,6 +73,10 @@ function testEnv(instance: Instance): Record<string, string> {
     NUXT_PUBLIC_SITE_URL: `http://127.0.0.1:${instance.appPort}`,
     HOST: '127.0.0.1',
     PORT: String(instance.appPort),
+    // The tests' engine stops at 4 s, not the product's 10 s: the heavy loop of the time-limit tests
+    // (tests/server/support/loops.ts) measured 21.8 s on an earlier machine and 8.8 s on a later one of the same
+    // kind, so at 10 s it finished in time there and three tests failed; at 4 s it is stopped on both.
+    ...(instance.name === 'bench' ? {} : { NUXT_CALC_TIME_LIMIT_MS: '4000' }),
   }
 }
 
