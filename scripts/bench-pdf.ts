@@ -10,8 +10,7 @@
  *     shared pages among their sharers and is printed beside it.
  * Targets: a sheet in at most 0.5 s, the app with its browser under 600 MB. Exits 0 either way: it reports.
  */
-import { readFileSync } from 'node:fs'
-import { processTree, sumKb } from './process-memory'
+import { kindOf, processTree, sumKb } from './process-memory'
 import { cpus, loadavg } from 'node:os'
 import { instanceOf, start, stop } from '../tests/setup/app'
 import { demoPassword } from './demo-people'
@@ -28,18 +27,6 @@ const median = (xs: number[]) => {
   return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2
 }
 
-/** What a process of the tree is: the app, or Chromium's browser process, or the --type= of one of its others. */
-function processKind(pid: number): string {
-  try {
-    // Chromium rewrites its command line as one string (its process title), so --type= is looked for in the whole.
-    const line = readFileSync(`/proc/${pid}/cmdline`, 'utf8')
-    if (!line.includes('chromium')) return 'app'
-    return /--type=([a-z-]+)/.exec(line)?.[1] ?? 'chromium'
-  } catch {
-    return 'ended'
-  }
-}
-
 async function main() {
   const running = await start(instanceOf('bench'))
   const base = `http://127.0.0.1:${running.instance.appPort}`
@@ -54,7 +41,7 @@ async function main() {
     if (rss > peakRssKb) {
       peakRssKb = rss
       peakProcesses = tree.length
-      peakBreakdown = tree.map((pid) => `${processKind(pid)} ${(sumKb([pid], 'status', 'VmRSS') / 1024).toFixed(0)}`).join(', ')
+      peakBreakdown = tree.map((pid) => `${kindOf(pid, appPid)} ${(sumKb([pid], 'status', 'VmRSS') / 1024).toFixed(0)}`).join(', ')
     }
     peakPssKb = Math.max(peakPssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
   }, 25)

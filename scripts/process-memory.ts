@@ -47,9 +47,14 @@ function cpuSecondsOf(pid: number): number {
   }
 }
 
-/** What a process is, for a reader of CPU figures: the app (node), Chromium's browser, or the --type of another. */
-function kindOf(pid: number): string {
+/**
+ * What a process of the app's tree is: the app (`root`), Chromium's browser, the --type (and utility sub-type) of
+ * another of Chromium's, or "app child" (a child not yet Chromium's: one just forked shows its parent's command line).
+ */
+export function kindOf(pid: number, root: number): string {
+  if (pid === root) return 'app'
   try {
+    // Chromium rewrites its command line as one string (its process title), so --type= is looked for in the whole.
     const line = readFileSync(`/proc/${pid}/cmdline`, 'utf8')
     if (!line.includes('chromium')) return 'app child'
     const type = /--type=([\w-]+)/.exec(line)?.[1]
@@ -74,7 +79,7 @@ export function sampleTree(root: number, everyMs = 25) {
     for (const pid of tree) {
       const seconds = cpuSecondsOf(pid)
       // Read each time: a process just forked by Chromium shows its parent's command line until it has started.
-      if (seconds > 0) cpu.set(pid, { kind: pid === root ? 'app' : kindOf(pid), seconds })
+      if (seconds > 0) cpu.set(pid, { kind: kindOf(pid, root), seconds })
     }
     const rss = sumKb(tree, 'status', 'VmRSS')
     if (rss > peak.rssKb) {
