@@ -846,8 +846,9 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
   const total = first.ordered.length
   const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
   const parts: PackagePart[] = new Array(total)
-  // As many sheets at once as the renderer has tabs: each lane takes the next sheet. On a failure no lane starts
-  // another, and the failure of the first failed sheet in the package's order is the job's error.
+  // One sheet more at once than the renderer has tabs: each lane takes the next sheet, and the app's own part of one
+  // (its data, the PDF's metadata) is done while another prints. On a failure no lane starts another, and the
+  // failure of the first failed sheet in the package's order is the job's error.
   let next = 0
   let finished = 0
   const failures = new Map<number, Error>()
@@ -878,7 +879,7 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
       await renderOne(index).catch((error: unknown) => failures.set(index, error instanceof Error ? error : new Error(String(error))))
     }
   }
-  await Promise.all(Array.from({ length: Math.min(renderTabs, total) }, lane))
+  await Promise.all(Array.from({ length: Math.min(renderTabs + 1, total) }, lane))
   if (failures.size) throw failures.get(Math.min(...failures.keys()))!
   if (run.signal.aborted) throw new Error('The render was stopped before it finished')
   await run.progress({ done: total, total, what: 'the cover sheet and the package page numbers' })
