@@ -10,7 +10,7 @@
  *     shared pages among their sharers and is printed beside it.
  * Targets: a sheet in at most 0.5 s, the app with its browser under 600 MB. Exits 0 either way: it reports.
  */
-import { kindOf, processTree, sumKb } from './process-memory'
+import { kindOf, processTree, sampleTree, sumKb } from './process-memory'
 import { cpus, loadavg } from 'node:os'
 import { instanceOf, start, stop } from '../tests/setup/app'
 import { demoPassword } from './demo-people'
@@ -45,6 +45,8 @@ async function main() {
     }
     peakPssKb = Math.max(peakPssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
   }, 25)
+  // CPU time by process, less moved by other work on the machine than the wall clock is.
+  const cpu = sampleTree(appPid)
   try {
     const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: engineer, password: demoPassword }) })
     const cookie = login.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ')
@@ -60,7 +62,12 @@ async function main() {
     // The render's own parts, from the preview's Server-Timing header (server/services/pdf-render.ts).
     const parts = new Map<string, number[]>()
     let pages = ''
+    let cpuOfRuns: [string, number][] = []
     for (let i = 0; i < WARM_UPS + RUNS; i++) {
+      if (i === WARM_UPS) {
+        await new Promise((resolve) => setTimeout(resolve, 50))
+        cpu.cpuSince()
+      }
       const t0 = performance.now()
       const answer = await fetch(`${base}/api/revisions/${revisionId}/pdf`, { headers: { cookie } })
       const bytes = Buffer.from(await answer.arrayBuffer())
@@ -73,6 +80,7 @@ async function main() {
       }
     }
     await new Promise((resolve) => setTimeout(resolve, 100))
+    cpuOfRuns = cpu.cpuSince()
     const s = median(times)
     const mb = peakRssKb / 1024
     console.log(`\nPDF of one demo sheet (PIC-214-01, ${status}, ${pages}), GET /api/revisions/${revisionId}/pdf rendered by Chromium, warm browser:`)
@@ -82,9 +90,11 @@ async function main() {
       `  peak memory of the app and its browser (${peakProcesses} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(peakPssKb / 1024).toFixed(0)} MiB`,
     )
     console.log(`  at the peak, RSS by process (MiB): ${peakBreakdown}`)
+    console.log(`  CPU ms per render, by process (mean of ${RUNS}): ${cpuOfRuns.map(([kind, seconds]) => `${kind} ${((seconds * 1000) / RUNS).toFixed(0)}`).join(', ')}`)
     console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
   } finally {
     clearInterval(sampler)
+    cpu.stop()
     await stop(running)
   }
 }

@@ -13,7 +13,7 @@ import { useDb } from '../utils/db'
 import { makeRenderToken } from '../utils/render-token'
 import { sheetPdfFileName, type PrintIssue } from '../../shared/schemas/print'
 import { issuedForWords } from '../../shared/schemas/lifecycle'
-import { revisionDetail } from './sheets'
+import { printSheet } from './print-data'
 
 export interface RenderedPdf {
   bytes: Buffer
@@ -26,8 +26,9 @@ export interface RenderedPdf {
   timings?: RenderTimings
 }
 
-/** Where a sheet's render spends its time: waiting for a tab, the print view until ready, Chromium's print, pdf-lib's metadata. */
+/** Where a sheet's render spends its time: its print data, waiting for a tab, the print view until ready, Chromium's print, pdf-lib's metadata. */
 export interface RenderTimings {
+  data: number
   queue: number
   ready: number
   print: number
@@ -40,6 +41,9 @@ export interface SheetRenderOptions {
 
 /** A render that could not be made; `message` says why, for the person who asked. */
 export class RenderError extends Error {}
+
+/** pdf-lib's parse and save of one sheet without pausing for the event loop (a package's merge keeps the pauses: 20 sheets at once). */
+const fullSpeed = Number.POSITIVE_INFINITY
 
 const CHROMIUM = process.env.LOOPWRIGHT_CHROMIUM ?? '/usr/bin/chromium'
 /**
@@ -161,8 +165,8 @@ async function openTabNow(browser: Browser, origin: string): Promise<Tab> {
     context = null
     throw error
   })
-  // Each tab in a window of its own: a background tab of a shared window gets no animation frames, and the print
-  // view waits for two before it says it is ready.
+  // Each tab in a window of its own: a background tab of a shared window gets no animation frames and is throttled
+  // (the print view no longer waits for frames, but the tab is kept a foreground one).
   const page = await shared.newPage({ type: 'window' })
   const tab: Tab = { page, renders: 0, warm: false, blocked: [], onRefused: null }
   await page.setRequestInterception(true)
@@ -257,7 +261,8 @@ function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, le
         refused,
       ])
       const readyAt = performance.now()
-      const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, timeout: READY_TIMEOUT_MS })
+      // The view said it is ready once its fonts were in: puppeteer's own wait for them (a round trip) is not needed.
+      const bytes = await page.pdf({ preferCSSPageSize: true, printBackground: true, waitForFonts: false, timeout: READY_TIMEOUT_MS })
       tab.warm = !leavesApp
       return { bytes, blockedRequests: [...tab.blocked], marks: { tab: tabAt, ready: readyAt, printed: performance.now() } }
     } finally {
@@ -329,15 +334,41 @@ export function printHtmlForTest(html: string, readySelector: string): Promise<P
   return printInTab(({ page }) => page.setContent(html, { waitUntil: 'load', timeout: READY_TIMEOUT_MS }), readySelector, true)
 }
 
+/**
+ * The print data of the renders under way, by render token, as the print view's data route answers it (JSON): made
+ * before a render waits for its tab, so that a package's next sheet has its data (the revision, its history, its
+ * signatures and attachments) while the sheet before it prints, and the view's fetch is answered from memory. An
+ * entry lives only while its render does.
+ */
+const preparedPrints = new Map<string, string>()
+
+/** The print data made for the render of `token` (checked by the caller) while that render runs. */
+export function preparedPrintData(token: string): string | undefined {
+  return preparedPrints.get(token)
+}
+
+/** The site's address for the "verify at" line: the configured one, else this app on loopback (as the data route's own origin). */
+function siteUrl() {
+  return useRuntimeConfig().public.siteUrl || loopbackOrigin()
+}
+
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
 export async function renderSheetPdf(revisionId: number, options: SheetRenderOptions = {}): Promise<RenderedPdf> {
   const startedAt = performance.now()
-  const detail = await revisionDetail(useDb(), revisionId)
+  const detail = await printSheet(useDb(), revisionId, options.issue ?? null, siteUrl())
   if (!detail) throw new RenderError(`There is no revision ${revisionId}`)
   const token = makeRenderToken(revisionId, options.issue ?? null)
-  const printed = await printPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`)
-  const revision = options.issue ? { ...detail.revision, label: options.issue.label, status: 'issued' as const } : detail.revision
-  const pdf = await PDFDocument.load(printed.bytes, { updateMetadata: false })
+  preparedPrints.set(token, JSON.stringify(detail))
+  const preparedAt = performance.now()
+  let printed: Printed
+  try {
+    printed = await printPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`)
+  } finally {
+    preparedPrints.delete(token)
+  }
+  // As printed: during an issue, the revision with the issue's label and status.
+  const { revision } = detail
+  const pdf = await PDFDocument.load(printed.bytes, { updateMetadata: false, parseSpeed: fullSpeed })
   const issued = revision.status === 'issued' || revision.status === 'superseded'
   pdf.setTitle(`${detail.number} ${detail.title}`, { showInWindowTitleBar: true })
   pdf.setAuthor(`${detail.firm.name}; prepared by ${revision.preparedBy.name}`)
@@ -352,7 +383,7 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   const at = options.issue ? new Date(options.issue.issuedAt) : new Date()
   pdf.setCreationDate(at)
   pdf.setModificationDate(at)
-  const bytes = Buffer.from(await pdf.save())
+  const bytes = Buffer.from(await pdf.save({ objectsPerTick: fullSpeed }))
   const { marks } = printed
   return {
     bytes,
@@ -360,6 +391,6 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
     pages: pdf.getPageCount(),
     fileName: sheetPdfFileName(detail.number, revision),
     blockedRequests: printed.blockedRequests,
-    timings: { queue: marks.tab - startedAt, ready: marks.ready - marks.tab, print: marks.printed - marks.ready, finish: performance.now() - marks.printed },
+    timings: { data: preparedAt - startedAt, queue: marks.tab - preparedAt, ready: marks.ready - marks.tab, print: marks.printed - marks.ready, finish: performance.now() - marks.printed },
   }
 }

@@ -23,12 +23,20 @@ interface Slot {
   worker: Worker
   job: Job | null
   timer: NodeJS.Timeout | null
+  /** While the worker waits for work, beyond the pool's first: when it is let go. */
+  idle: NodeJS.Timeout | null
 }
 
 /** How long one computation may take before its worker is stopped. */
 export const calcTimeLimitMs = Number(process.env.NUXT_CALC_TIME_LIMIT_MS) || 10_000
 /** Requests waiting beyond this many, everyone's together, are answered "busy" rather than queued without end. */
 const queueLimit = 64
+/**
+ * A worker beyond the first that has had no work for this long is let go. Each worker holds the engine (about 70 to
+ * 85 MiB of the app's RSS, measured by starting workers of the built calc-worker.mjs); one is always kept, warm, and
+ * the others start when work waits for them (about 0.4 s to start one and compute a small loop) and go when idle.
+ */
+const idleWorkerMs = Number(process.env.LOOPWRIGHT_CALC_IDLE_MS) || 60_000
 
 function workerPath(): string {
   // nuxt.config.ts bundles it beside the built server's index.mjs, and into .nuxt/ for `nuxt dev`.
@@ -43,7 +51,8 @@ function workerPath(): string {
 }
 
 /**
- * A fixed pool of worker threads with a time limit per computation. The engine
+ * A pool of up to `size` worker threads with a time limit per computation: one kept, the others started when work
+ * waits and let go after `idleWorkerMs` without any. The engine
  * also stops itself at its deadline; the hard limit here (a little later)
  * catches anything that does not, by terminating the worker and starting a new one.
  *
@@ -83,6 +92,10 @@ class CalcPool {
     })
   }
 
+  get workers(): number {
+    return this.slots.length
+  }
+
   /** Jobs running and waiting for one owner. */
   inFlight(owner: string): number {
     return this.slots.filter((slot) => slot.job?.owner === owner).length + (this.queues.get(owner)?.length ?? 0)
@@ -117,19 +130,45 @@ class CalcPool {
   }
 
   private dispatch() {
-    if (this.slots.length === 0) this.slots = Array.from({ length: this.size }, () => this.spawn())
-    for (const slot of this.slots) {
-      if (slot.job) continue
+    for (;;) {
+      const free = this.slots.find((candidate) => !candidate.job)
+      if (!free && this.slots.length >= this.size) break
       const job = this.next()
-      if (!job) return
+      if (!job) break
+      const slot = free ?? this.added()
+      if (slot.idle) clearTimeout(slot.idle)
+      slot.idle = null
       slot.job = job
       slot.timer = setTimeout(() => this.kill(slot), calcTimeLimitMs + 2_000)
       slot.worker.postMessage(job.request)
     }
+    this.retireLater()
+  }
+
+  /** A new worker in the pool (fewer than `size` are running). */
+  private added(): Slot {
+    const slot = this.spawn()
+    this.slots.push(slot)
+    return slot
+  }
+
+  /** Each idle worker but the first goes after `idleWorkerMs` unless work comes first. */
+  private retireLater() {
+    for (const slot of this.slots.slice(1)) {
+      if (slot.job || slot.idle) continue
+      slot.idle = setTimeout(() => {
+        slot.idle = null
+        const index = this.slots.indexOf(slot)
+        if (slot.job || index < 1) return
+        this.slots.splice(index, 1)
+        void slot.worker.terminate()
+      }, idleWorkerMs)
+      slot.idle.unref()
+    }
   }
 
   private spawn(): Slot {
-    const slot: Slot = { worker: new Worker(workerPath()), job: null, timer: null }
+    const slot: Slot = { worker: new Worker(workerPath()), job: null, timer: null, idle: null }
     slot.worker.unref()
     slot.worker.on('message', (reply: CalcReply) => this.finish(slot, reply))
     slot.worker.on('error', (error: Error) => this.replace(slot, `The calculation failed: ${error.message}`))
@@ -152,6 +191,7 @@ class CalcPool {
   private replace(slot: Slot, message: string, kind: 'timeout' | 'engine' = 'engine') {
     const job = slot.job
     if (slot.timer) clearTimeout(slot.timer)
+    if (slot.idle) clearTimeout(slot.idle)
     void slot.worker.terminate()
     const index = this.slots.indexOf(slot)
     if (index >= 0) this.slots[index] = this.spawn()
@@ -172,18 +212,22 @@ export function calculateInPool(text: string, owner: string, signal?: AbortSigna
   return thePool().run(text, owner, signal)
 }
 
+/** How many workers the pool holds now (for its tests). */
+export function calcWorkers(): number {
+  return thePool().workers
+}
+
 /** How many of `owner`'s calculations are running or waiting. */
 export function calculationsInFlight(owner: string): number {
   return thePool().inFlight(owner)
 }
 
-/** Starts the workers and runs one small loop in each, so the first engineer's preview is not the slow one. */
+/** Starts the pool's first worker and runs one small loop in it, so the first engineer's preview is not the slow one. */
 export async function warmCalcPool(): Promise<void> {
   const loop = JSON.stringify({
     parameters: {},
     blocks: { G: { role: 'plant', label: 'warm-up', num: '1', den: 's + 1' } },
     structure: { feedback: { forward: 'G', return: null, sign: -1 } },
   })
-  // Each warm-up is an owner of its own, so the pool's rule of one worker per person does not hold them back.
-  await Promise.all(Array.from({ length: thePool().size }, (_, i) => thePool().run(loop, `warm-up-${i}`)))
+  await thePool().run(loop, 'warm-up')
 }

@@ -40,7 +40,7 @@ export default defineEventHandler(async (event) => {
     'content-disposition': `${issued ? 'attachment' : 'inline'}; filename="${pdf.fileName}"`,
     'x-content-sha256': pdf.sha256,
     'cache-control': 'private, no-store',
-    // Where a preview's render spent its time (queue, ready, print, finish), for the browser's tools and the bench.
+    // Where a preview's render spent its time (data, queue, ready, print, finish), for the browser's tools and the bench.
     ...(pdf.timings ? { 'server-timing': Object.entries(pdf.timings).map(([name, ms]) => `${name};dur=${ms.toFixed(1)}`).join(', ') } : {}),
   })
   return pdf.bytes
