@@ -13,9 +13,8 @@ import { cpus, loadavg } from 'node:os'
 import { instanceOf, start, stop } from '../tests/setup/app'
 import { demoPassword } from './demo-people'
 import { sampleTree } from './process-memory'
-
-/** The app's tabs printing at once: its default (server/services/pdf-render.ts) unless the environment sets them. */
-const tabs = Number(process.env.LOOPWRIGHT_PDF_PAGES ?? 1)
+// The app's tabs printing at once, read as the app reads them (it runs with this process's environment).
+import { renderTabs as tabs } from '../server/services/pdf-render'
 
 const SHEETS = 20
 const TARGET_S = 10

@@ -10,7 +10,7 @@
  *     shared pages among their sharers and is printed beside it.
  * Targets: a sheet in at most 0.5 s, the app with its browser under 600 MB. Exits 0 either way: it reports.
  */
-import { kindOf, processTree, sampleTree, sumKb } from './process-memory'
+import { sampleTree } from './process-memory'
 import { cpus, loadavg } from 'node:os'
 import { instanceOf, start, stop } from '../tests/setup/app'
 import { demoPassword } from './demo-people'
@@ -31,22 +31,8 @@ async function main() {
   const running = await start(instanceOf('bench'))
   const base = `http://127.0.0.1:${running.instance.appPort}`
   const appPid = running.app.pid!
-  let peakRssKb = 0
-  let peakPssKb = 0
-  let peakProcesses = 0
-  let peakBreakdown = ''
-  const sampler = setInterval(() => {
-    const tree = processTree(appPid)
-    const rss = sumKb(tree, 'status', 'VmRSS')
-    if (rss > peakRssKb) {
-      peakRssKb = rss
-      peakProcesses = tree.length
-      peakBreakdown = tree.map((pid) => `${kindOf(pid, appPid)} ${(sumKb([pid], 'status', 'VmRSS') / 1024).toFixed(0)}`).join(', ')
-    }
-    peakPssKb = Math.max(peakPssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
-  }, 25)
-  // CPU time by process, less moved by other work on the machine than the wall clock is.
-  const cpu = sampleTree(appPid)
+  // Peak memory, and CPU time by process (less moved by other work on the machine than the wall clock is).
+  const sampler = sampleTree(appPid)
   try {
     const login = await fetch(`${base}/api/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: engineer, password: demoPassword }) })
     const cookie = login.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ')
@@ -66,7 +52,7 @@ async function main() {
     for (let i = 0; i < WARM_UPS + RUNS; i++) {
       if (i === WARM_UPS) {
         await new Promise((resolve) => setTimeout(resolve, 50))
-        cpu.cpuSince()
+        sampler.cpuSince()
       }
       const t0 = performance.now()
       const answer = await fetch(`${base}/api/revisions/${revisionId}/pdf`, { headers: { cookie } })
@@ -80,21 +66,21 @@ async function main() {
       }
     }
     await new Promise((resolve) => setTimeout(resolve, 100))
-    cpuOfRuns = cpu.cpuSince()
+    cpuOfRuns = sampler.cpuSince()
     const s = median(times)
-    const mb = peakRssKb / 1024
+    const { peak } = sampler
+    const mb = peak.rssKb / 1024
     console.log(`\nPDF of one demo sheet (PIC-214-01, ${status}, ${pages}), GET /api/revisions/${revisionId}/pdf rendered by Chromium, warm browser:`)
     console.log(`  median of ${RUNS}: ${s.toFixed(3)} s (min ${Math.min(...times).toFixed(3)}, max ${Math.max(...times).toFixed(3)})  ${s <= TARGET_S ? 'PASS' : 'FAIL'} (at most ${TARGET_S} s)`)
     console.log(`  the render's parts, median ms (Server-Timing): ${[...parts].map(([name, ms]) => `${name} ${median(ms).toFixed(0)}`).join(', ')}`)
     console.log(
-      `  peak memory of the app and its browser (${peakProcesses} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(peakPssKb / 1024).toFixed(0)} MiB`,
+      `  peak memory of the app and its browser (${peak.processes} processes): RSS summed ${mb.toFixed(0)} MiB  ${mb < TARGET_MB ? 'PASS' : 'FAIL'} (under ${TARGET_MB} MB); PSS summed ${(peak.pssKb / 1024).toFixed(0)} MiB`,
     )
-    console.log(`  at the peak, RSS by process (MiB): ${peakBreakdown}`)
+    console.log(`  at the peak, RSS by process (MiB): ${peak.byProcess}`)
     console.log(`  CPU ms per render, by process (mean of ${RUNS}): ${cpuOfRuns.map(([kind, seconds]) => `${kind} ${((seconds * 1000) / RUNS).toFixed(0)}`).join(', ')}`)
     console.log(`  machine: ${cpus().length} cores, load average ${loadavg().map((l) => l.toFixed(2)).join(' ')} (shared with other work; figures move with it)`)
   } finally {
-    clearInterval(sampler)
-    cpu.stop()
+    sampler.stop()
     await stop(running)
   }
 }

@@ -66,12 +66,14 @@ export function kindOf(pid: number, root: number): string {
 }
 
 /**
- * Samples the tree's summed RSS and PSS every `everyMs` until stopped; answers the peaks. `cpuSince()` answers the
+ * Samples the tree's summed RSS and PSS every `everyMs` until stopped; answers the peaks (with the processes at the
+ * RSS peak). `cpuSince()` answers the
  * CPU seconds each kind of process used since the last call (a process seen in a sample keeps its last figure after
  * it ends, so a renderer closed meanwhile still counts up to its last sample).
  */
 export function sampleTree(root: number, everyMs = 25) {
-  const peak = { rssKb: 0, pssKb: 0, processes: 0, largest: '' }
+  // `byProcess`: each process's kind and RSS in MiB at the peak ("app 355, chromium 243, ..."), in the tree's order.
+  const peak = { rssKb: 0, pssKb: 0, processes: 0, largest: '', byProcess: '' }
   const cpu = new Map<number, { kind: string; seconds: number }>()
   const counted = new Map<number, number>()
   const timer = setInterval(() => {
@@ -86,6 +88,7 @@ export function sampleTree(root: number, everyMs = 25) {
       peak.rssKb = rss
       peak.processes = tree.length
       peak.largest = largestOf(tree)
+      peak.byProcess = tree.map((pid) => `${kindOf(pid, root)} ${(sumKb([pid], 'status', 'VmRSS') / 1024).toFixed(0)}`).join(', ')
     }
     peak.pssKb = Math.max(peak.pssKb, sumKb(tree, 'smaps_rollup', 'Pss'))
   }, everyMs)

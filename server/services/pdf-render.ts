@@ -347,15 +347,15 @@ export function preparedPrintData(token: string): string | undefined {
   return preparedPrints.get(token)
 }
 
-/** The site's address for the "verify at" line: the configured one, else this app on loopback (as the data route's own origin). */
-function siteUrl() {
+/** The site's address for a print's "verify at" line: the configured one, else this app on loopback (where its render tabs reach it). */
+export function printSiteUrl() {
   return useRuntimeConfig().public.siteUrl || loopbackOrigin()
 }
 
 /** One revision of a sheet as a PDF: the issued document when `options.issue` is given or the revision is issued, else a preview marked preliminary. */
 export async function renderSheetPdf(revisionId: number, options: SheetRenderOptions = {}): Promise<RenderedPdf> {
   const startedAt = performance.now()
-  const detail = await printSheet(useDb(), revisionId, options.issue ?? null, siteUrl())
+  const detail = await printSheet(useDb(), revisionId, options.issue ?? null, printSiteUrl())
   if (!detail) throw new RenderError(`There is no revision ${revisionId}`)
   const token = makeRenderToken(revisionId, options.issue ?? null)
   preparedPrints.set(token, JSON.stringify(detail))

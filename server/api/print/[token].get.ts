@@ -1,6 +1,6 @@
 import { printDataQuerySchema } from '../../../shared/schemas/print'
 import { printSheet } from '../../services/print-data'
-import { preparedPrintData } from '../../services/pdf-render'
+import { preparedPrintData, printSiteUrl } from '../../services/pdf-render'
 
 /**
  * GET /api/print/[token]: the print view's data for the PDF renderer, for the one revision its render
@@ -17,7 +17,7 @@ export default defineEventHandler(async (event) => {
     setResponseHeader(event, 'content-type', 'application/json')
     return prepared
   }
-  const sheet = await printSheet(useDb(), claims.revisionId, claims.issue, useRuntimeConfig(event).public.siteUrl || getRequestURL(event).origin)
+  const sheet = await printSheet(useDb(), claims.revisionId, claims.issue, printSiteUrl())
   if (!sheet) throw createError({ statusCode: 404, statusMessage: 'No such revision' })
   return sheet
 })
