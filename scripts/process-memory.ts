@@ -103,6 +103,17 @@ export function sampleTree(root: number, everyMs = 25) {
   return { peak, cpuSince, stop: () => clearInterval(timer) }
 }
 
+/**
+ * A bench's peak memory, judged against `targetMb` (MB, 10^6 bytes, as the issues write them) on PSS: each shared page
+ * divided among the processes sharing it, so the app's and its browser's figures add up to what they hold together.
+ * RSS summed is printed beside it as an upper bound: it counts a shared page once per process (Chromium's code
+ * mapped in both the browser and its renderer).
+ */
+export function peakMemoryVerdict(peak: { rssKb: number; pssKb: number }, targetMb: number): string {
+  const pssMb = (peak.pssKb * 1024) / 1e6
+  return `PSS summed ${(peak.pssKb / 1024).toFixed(0)} MiB = ${pssMb.toFixed(0)} MB  ${pssMb < targetMb ? 'PASS' : 'FAIL'} (under ${targetMb} MB); RSS summed ${(peak.rssKb / 1024).toFixed(0)} MiB`
+}
+
 /** The three largest processes of the tree by RSS, "name MiB", for the reader of a figure. */
 function largestOf(pids: number[]): string {
   const sized = pids.map((pid) => {

@@ -13,7 +13,7 @@ import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { processTree } from '../../scripts/process-memory'
-import { instanceOf } from '../setup/app'
+import { appArgs, instanceOf } from '../setup/app'
 import { demo } from './support/client'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -80,7 +80,7 @@ async function until(check: () => Promise<boolean>, tries: number, ms: number): 
 
 async function startApp(chromium?: string) {
   const log = openSync(`${root}.data/test-app-package-crash.log`, 'a')
-  app = spawn('node', ['.output/server/index.mjs'], { cwd: root, env: env(chromium), stdio: ['ignore', log, log] })
+  app = spawn('node', appArgs, { cwd: root, env: env(chromium), stdio: ['ignore', log, log] })
   expect(await until(async () => (await fetch(`${baseUrl}/api/_auth/session`).catch(() => null))?.ok === true, 150, 200)).toBe(true)
 }
 /** The processes under `pid` (its Chromium and that browser's own), the app itself left out. */
