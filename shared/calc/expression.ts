@@ -26,7 +26,8 @@ export interface ExpressionScope {
  * mathjs's parser alone, in an instance of its own (mathjs's documented custom bundling): the engine only parses and
  * walks the nodes. The default instance, which the bare `parse` export belongs to, builds every function mathjs has.
  */
-const { parse } = create({ parseDependencies })
+// mathjs declares its dependency maps as members of one record, so they read as possibly undefined here.
+const { parse } = create({ parseDependencies: parseDependencies! })
 
 const OPERATORS: Record<string, string> = { '+': 'add', '-': 'subtract', '*': 'multiply', '/': 'divide', '^': 'pow' }
 
