@@ -45,8 +45,16 @@ const STAMP_COLOUR = rgb(0x23 / 255, 0x49 / 255, 0x4e / 255)
 
 /** The package's PDF; `font` is the Noto face to stamp with (the caller reads it from the server's assets). */
 export async function renderPackagePdf(packageId: number, facts: CoverFacts, parts: PackagePart[], font: Uint8Array): Promise<RenderedPdf> {
-  const loaded = await Promise.all(parts.map(async (part) => ({ part, pdf: await PDFDocument.load(part.bytes) })))
-  const counted = loaded.map(({ part, pdf }) => ({ ...part, pages: pdf.getPageCount() }))
+  // Each sheet is parsed, copied into the package and let go in turn: the app holds the package and one sheet's
+  // parse at a time, not all of them at once (their page counts, for the cover's index, come from these parses).
+  const merged = await PDFDocument.create()
+  merged.registerFontkit(fontkit)
+  const counted: Array<PackagePart & { pages: number }> = []
+  for (const part of parts) {
+    const source = await PDFDocument.load(part.bytes)
+    for (const page of await merged.copyPages(source, source.getPageIndices())) merged.addPage(page)
+    counted.push({ ...part, pages: source.getPageCount() })
+  }
   // The index needs the cover's own length: print it for one page, and again if it came out longer.
   let coverPages = 1
   const blockedRequests: string[] = []
@@ -61,11 +69,8 @@ export async function renderPackagePdf(packageId: number, facts: CoverFacts, par
   }
   if (!cover) throw new RenderError('The cover sheet did not settle on a page count')
 
-  const merged = await PDFDocument.create()
-  merged.registerFontkit(fontkit)
-  for (const source of [cover, ...loaded.map(({ pdf }) => pdf)]) {
-    for (const page of await merged.copyPages(source, source.getPageIndices())) merged.addPage(page)
-  }
+  const coverCopies = await merged.copyPages(cover, cover.getPageIndices())
+  coverCopies.forEach((page, index) => merged.insertPage(index, page))
   const face = await merged.embedFont(font, { subset: true })
   const total = merged.getPageCount()
   merged.getPages().forEach((page, index) => {
