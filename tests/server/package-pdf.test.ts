@@ -12,7 +12,7 @@ import * as schema from '../../server/db/schema'
 import { runPackageIssue, type PackageIssueJob } from '../../server/services/lifecycle'
 import { demoPassword } from '../../scripts/demo-people'
 import { pdfFonts, pdfInfo, pdfPageTexts } from '../support/poppler'
-import { database, issueSheetAndWait, unique } from './support/client'
+import { database, demo, issuePackageAndWait, issueSheetAndWait, unique } from './support/client'
 import { newSheet, theCast, type Cast } from './support/sheets'
 
 const dir = mkdtempSync(join(tmpdir(), 'loopwright-package-test-'))
@@ -142,5 +142,47 @@ describe('a package issue', () => {
     } finally {
       await own.end()
     }
+  }, 150_000)
+
+  it('prints a cover that runs past one page again, through the warm tab, with the index counting its pages', async () => {
+    // A client organisation of its own with 150 contacts: the recipients alone push the transmittal past one page, so
+    // the renderer prints the cover a second time with a new token on the same route (server/services/package-pdf.ts).
+    const organisation = await cast.admin.post('/api/organisations', { name: unique('Many Contacts Utility ') })
+    expect(organisation.status).toBe(201)
+    const number = unique('MANY-').toUpperCase()
+    const project = await cast.admin.post('/api/projects', { number, name: 'Works with many contacts', organisationId: organisation.body.id })
+    expect(project.status).toBe(201)
+    const [checker] = await database()`select id from people where email = ${demo.checker}`
+    for (const [personId, role] of [[cast.ids.engineer, 'engineer'], [checker!.id, 'checker']] as const) {
+      expect((await cast.admin.post(`/api/projects/${project.body.id}/members`, { personId, role })).status).toBe(201)
+    }
+    const handle = unique('contact').toLowerCase()
+    await database()`
+      insert into people (name, email, roles, organisation_id)
+      select 'Contact ' || n || ' of the many', ${handle} || '-' || n || '@example.com', array['client'], ${organisation.body.id}::int
+      from generate_series(1, 150) as n`
+    const made = await cast.engineer.post(`/api/projects/${project.body.id}/packages`, { title: unique('Long transmittal ') })
+    expect(made.status).toBe(201)
+    const sheet = await newSheet(cast.engineer, project.body.id, { template: 'pi-pressure-loop', packageId: made.body.id })
+    await act(sheet.id, 'submit', { version: 1 })
+    await act(sheet.id, 'approve', { version: 1, password: demoPassword })
+
+    const { request, job } = await issuePackageAndWait(cast.engineer, made.body.id, { purpose: 'review', password: demoPassword, sheets: [{ sheetId: sheet.id, version: 1 }] })
+    expect(job?.body.status, JSON.stringify(job?.body)).toBe('done')
+    const [stored] = await database()`select bytes from package_issues where job_id = ${request.body.jobId}`
+    const path = join(dir, 'long-cover.pdf')
+    writeFileSync(path, stored!.bytes)
+    const pages = pdfPageTexts(path)
+    // The cover's pages, each numbered as the cover's own; the last contact is on them; the sheet starts after them.
+    const coverPages = Number(/Cover page 1 of (\d+)/.exec(pages[0]!)?.[1])
+    expect(coverPages).toBeGreaterThanOrEqual(2)
+    for (let page = 1; page <= coverPages; page++) expect(pages[page - 1]).toContain(`Cover page ${page} of ${coverPages}`)
+    const cover = pages.slice(0, coverPages).join('\n')
+    expect(cover).toContain(`${handle}-150@example.com`)
+    const line = cover.split('\n').find((row) => row.includes(sheet.number))
+    expect(line, 'index row of the sheet').toMatch(new RegExp(`${coverPages + 1}–${pages.length}\\s*$`))
+    expect(pages[coverPages]).toContain(sheet.number)
+    expect(pages[coverPages]).toContain(`Page 1 of ${pages.length - coverPages}`)
+    pages.forEach((text, index) => expect(text, `page ${index + 1}`).toContain(`package page ${index + 1} of ${pages.length}`))
   }, 150_000)
 })
