@@ -301,8 +301,14 @@ async function pageState(page: Page): Promise<string> {
   return JSON.stringify(state)
 }
 
-/** Prints the print view at `path` of this app (`/sheets/[id]/print?render=<token>`) in a warm tab. */
-async function printPage(path: string): Promise<Printed> {
+/**
+ * Prints the print page of this app at `path`, a sheet's (`/sheets/[id]/print?render=<token>`) or a package's cover
+ * (`/packages/[id]/print?render=<token>`): through the app's router in a warm tab, ready when the `.lw-print` of its
+ * token says so, under the blocking of every request that leaves the app. The cover loaded afresh with its own
+ * `page.goto` took about 390 ms of a 20-sheet package's tail (scratch timings in renderPackagePdf) and left the tab
+ * cold for the next sheet.
+ */
+export async function printAppPage(path: string): Promise<Printed> {
   const origin = loopbackOrigin()
   const token = new URL(path, origin).searchParams.get('render')
   if (!token) throw new RenderError('A print needs a render token')
@@ -321,16 +327,6 @@ async function printPage(path: string): Promise<Printed> {
     ready,
     false,
   )
-}
-
-/**
- * Prints another print page of this app at `path` (a package's cover sheet, `/packages/[id]/print?render=<token>`)
- * as a sheet is printed: through the app's router in a warm tab, ready when the `.lw-print` of its token says so,
- * under the same blocking of every request that leaves the app. Loading it afresh with its own `page.goto` took
- * about 390 ms of a 20-sheet package's tail (scratch timings in renderPackagePdf) and left the tab cold for the next sheet.
- */
-export function printAppPage(path: string): Promise<Printed> {
-  return printPage(path)
 }
 
 /**
@@ -369,7 +365,7 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   const preparedAt = performance.now()
   let printed: Printed
   try {
-    printed = await printPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`)
+    printed = await printAppPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`)
   } finally {
     preparedPrints.delete(token)
   }

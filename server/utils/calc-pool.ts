@@ -32,8 +32,8 @@ export const calcTimeLimitMs = Number(process.env.NUXT_CALC_TIME_LIMIT_MS) || 10
 /** Requests waiting beyond this many, everyone's together, are answered "busy" rather than queued without end. */
 const queueLimit = 64
 /**
- * A worker beyond the first that has had no work for this long is let go. Each worker holds the engine (about 70 to
- * 85 MiB of the app's RSS, measured by starting workers of the built calc-worker.mjs); one is always kept, warm, and
+ * A worker beyond the first that has had no work for this long is let go. Each worker holds the engine (about 60 MiB
+ * PSS after the example loops, measured by starting workers of the built calc-worker.mjs); one is always kept, warm, and
  * the others start when work waits for them (about 0.4 s to start one and compute a small loop) and go when idle.
  */
 const idleWorkerMs = Number(process.env.LOOPWRIGHT_CALC_IDLE_MS) || 60_000
