@@ -7,13 +7,14 @@ const KEPT_UP_TO_CHARACTERS = 20_000
 const typesetCache = new Map<string, string>()
 
 /**
- * KaTeX's HTML of `tex`. Its output depends on the TeX and the display mode only, so it is kept for the formulas
- * set last (on the server too: the same pure function for every request): the PDF renderer's warm tab prints one
- * revision again and again (a preview, then its issue; a package), and typesetting every formula afresh was much
+ * KaTeX's HTML of `tex`, with its MathML copy unless `mathml` is false (the print view's formulas: see CalcTex). Its
+ * output depends on the TeX, the display mode and that choice only, so it is kept for the formulas set last (on the
+ * server too: the same pure function for every request): the PDF renderer's warm tab prints one revision again and
+ * again (a preview, then its issue; a package), and typesetting every formula afresh was much
  * of a render's script time (a Chromium trace of the print view).
  */
-export function typeset(tex: string, displayMode: boolean): string {
-  const key = `${displayMode ? 'D' : 'I'}${tex}`
+export function typeset(tex: string, displayMode: boolean, mathml = true): string {
+  const key = `${displayMode ? 'D' : 'I'}${mathml ? 'M' : 'H'}${tex}`
   const kept = typesetCache.get(key)
   if (kept !== undefined) {
     // Most recently used last, so the oldest is the first to go.
@@ -27,7 +28,7 @@ export function typeset(tex: string, displayMode: boolean): string {
     // Parameter symbols are typed by the engineer: no \href, \url or raw HTML (KaTeX's `trust` stays off).
     trust: false,
     strict: 'ignore',
-    output: 'htmlAndMathml',
+    output: mathml ? 'htmlAndMathml' : 'html',
   })
   if (tex.length > KEPT_UP_TO_CHARACTERS) return html
   typesetCache.set(key, html)

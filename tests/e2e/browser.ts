@@ -110,7 +110,12 @@ export function bareTex(tex: string) {
     .replace(/\s+/g, '')
 }
 
-/** The TeX of every formula under `selector`, as KaTeX's MathML copies hold it, one after another. */
+/**
+ * The TeX of every formula under `selector`, one after another: as KaTeX's MathML copies hold it on screen, or as the
+ * print view names each formula (its aria-label: the print view typesets KaTeX's HTML alone, see CalcTex).
+ */
 export function typesetTexOf(page: Page, selector: string) {
-  return page.$$eval(`${selector} annotation`, (nodes) => nodes.map((node) => node.textContent ?? '').join(' '))
+  return page.$$eval(`${selector} annotation, ${selector} [data-tex][aria-label]`, (nodes) =>
+    nodes.map((node) => (node.localName === 'annotation' ? node.textContent : node.getAttribute('aria-label')) ?? '').join(' '),
+  )
 }
