@@ -13,7 +13,7 @@ import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { processTree } from '../../scripts/process-memory'
-import { appArgs, instanceOf } from '../setup/app'
+import { appArgs, appEnv, instanceOf } from '../setup/app'
 import { demo } from './support/client'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -52,6 +52,7 @@ async function recreate(create: boolean) {
 function env(chromium?: string): NodeJS.ProcessEnv {
   return {
     ...process.env,
+    ...appEnv,
     NUXT_DATABASE_URL: databaseUrl,
     ...storeEnv,
     NUXT_SESSION_PASSWORD: readFileSync(`${root}.data/session-password`, 'utf8').trim(),

@@ -14,15 +14,19 @@ import { CreateBucketCommand, DeleteObjectsCommand, ListObjectsV2Command, S3Clie
 import type { TestProject } from 'vitest/node'
 
 /**
- * How the built app is started, by scripts/serve and here (its flags in scripts/lib/app-node-flags.json).
+ * How the built app is started, by scripts/serve and here: its Node flags and environment, in scripts/lib/app-start.json.
  * `--max-semi-space-size=4`: V8's young generation grew to its default 16 MiB semi-spaces (32 MiB of new space,
  * v8.getHeapSpaceStatistics) while the app rendered PDFs; at 4 MiB the app's RSS in scripts/bench-pdf.ts was about
  * 25 MiB lower (204 to 214 against 220 to 246 MiB), its CPU per render within the machine's noise.
+ * `MALLOC_ARENA_MAX=2`: glibc's malloc keeps an arena for each thread that allocates (the app's, its calculation
+ * workers', libuv's), and memory freed in them stayed with the process. With two, in scripts/bench-package.ts, the
+ * app's RSS when a 20-sheet package's sheets were printed was 199 to 204 MiB against 313 to 319 (runs taken in turn),
+ * the package's peak PSS 505 to 530 MiB against 622, the app's CPU 3.42 to 4.30 s against 3.44.
  */
-export const appArgs: string[] = [
-  ...(JSON.parse(readFileSync(fileURLToPath(new URL('../../scripts/lib/app-node-flags.json', import.meta.url)), 'utf8')) as { flags: string[] }).flags,
-  '.output/server/index.mjs',
-]
+const startOfApp = JSON.parse(readFileSync(fileURLToPath(new URL('../../scripts/lib/app-start.json', import.meta.url)), 'utf8')) as { flags: string[]; env: Record<string, string> }
+export const appArgs: string[] = [...startOfApp.flags, '.output/server/index.mjs']
+/** The environment the app is started with, added to its own (scripts/lib/app-start.json). */
+export const appEnv: Record<string, string> = startOfApp.env
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
 
@@ -171,7 +175,7 @@ export async function start(instance: Instance): Promise<Running> {
   const log = openSync(logFile, 'w')
   const app = spawn('node', appArgs, {
     cwd: root,
-    env: { ...process.env, ...env },
+    env: { ...process.env, ...appEnv, ...env },
     stdio: ['ignore', log, log],
   })
   writeFileSync(pidFile, String(app.pid))
