@@ -8,7 +8,7 @@ import { packagePdfFileName, type PrintCover, type PrintCoverEntry } from '../..
 import { issuedForWords } from '../../shared/schemas/lifecycle'
 import { sha256Hex } from '../utils/content-hash'
 import { dropCoverToken, makeCoverToken } from '../utils/render-token'
-import { printAppPage, RenderError, type RenderedPdf } from './pdf-render'
+import { fullSpeed, printAppPage, RenderError, type RenderedPdf } from './pdf-render'
 
 /** One sheet of the package, in the package's order, with its PDF (just rendered, or stored at an earlier issue). */
 export interface PackagePart extends Omit<PrintCoverEntry, 'firstPage' | 'lastPage'> {
@@ -32,7 +32,7 @@ async function printCover(packageId: number, cover: PrintCover, blocked: string[
   try {
     const printed = await printAppPage(`/packages/${packageId}/print?render=${encodeURIComponent(token)}`)
     blocked.push(...printed.blockedRequests)
-    return await PDFDocument.load(printed.bytes)
+    return await PDFDocument.load(printed.bytes, { parseSpeed: fullSpeed })
   } finally {
     dropCoverToken(token)
   }
@@ -42,16 +42,21 @@ async function printCover(packageId: number, cover: PrintCover, blocked: string[
 const MM = 72 / 25.4
 const STAMP_SIZE_PT = 7.5
 const STAMP_COLOUR = rgb(0x23 / 255, 0x49 / 255, 0x4e / 255)
+/** pdf-lib's pause for the event loop while saving a package, every this many objects (its default: 50). */
+const SAVE_OBJECTS_PER_TICK = 500
 
 /** The package's PDF; `font` is the Noto face to stamp with (the caller reads it from the server's assets). */
 export async function renderPackagePdf(packageId: number, facts: CoverFacts, parts: PackagePart[], font: Uint8Array): Promise<RenderedPdf> {
   // Each sheet is parsed, copied into the package and let go in turn: the app holds the package and one sheet's
   // parse at a time, not all of them at once (their page counts, for the cover's index, come from these parses).
+  // A sheet is parsed without pdf-lib's pauses for the event loop (about 7 ms each, the loop free between sheets),
+  // and the package is saved with a pause every SAVE_OBJECTS_PER_TICK objects: measured on 20 demo sheets (182
+  // pages) in a scratch script, parsing 331-416 → 132-164 ms and saving 66-107 → 21-26 ms.
   const merged = await PDFDocument.create()
   merged.registerFontkit(fontkit)
   const counted: Array<PackagePart & { pages: number }> = []
   for (const part of parts) {
-    const source = await PDFDocument.load(part.bytes)
+    const source = await PDFDocument.load(part.bytes, { parseSpeed: fullSpeed })
     for (const page of await merged.copyPages(source, source.getPageIndices())) merged.addPage(page)
     counted.push({ ...part, pages: source.getPageCount() })
   }
@@ -87,6 +92,6 @@ export async function renderPackagePdf(packageId: number, facts: CoverFacts, par
   merged.setProducer('Loopwright')
   merged.setCreationDate(new Date(facts.issuedAt))
   merged.setModificationDate(new Date(facts.issuedAt))
-  const bytes = Buffer.from(await merged.save())
+  const bytes = Buffer.from(await merged.save({ objectsPerTick: SAVE_OBJECTS_PER_TICK }))
   return { bytes, sha256: sha256Hex(bytes), pages: total, fileName: packagePdfFileName(facts.projectNumber, facts.packageNumber, facts.label), blockedRequests }
 }

@@ -42,8 +42,8 @@ export interface SheetRenderOptions {
 /** A render that could not be made; `message` says why, for the person who asked. */
 export class RenderError extends Error {}
 
-/** pdf-lib's parse and save of one sheet without pausing for the event loop (a package's merge keeps the pauses: 20 sheets at once). */
-const fullSpeed = Number.POSITIVE_INFINITY
+/** pdf-lib's parse and save of one sheet without pausing for the event loop (one sheet takes a few milliseconds). */
+export const fullSpeed = Number.POSITIVE_INFINITY
 
 /**
  * Debian's chromium-headless-shell (Chromium's old headless mode, a browser without the desktop browser's layers):
