@@ -324,7 +324,7 @@ async function pageState(page: Page): Promise<string> {
  * `page.goto` took about 390 ms of a 20-sheet package's tail (scratch timings in renderPackagePdf) and left the tab
  * cold for the next sheet.
  */
-export async function printAppPage(path: string): Promise<Printed> {
+export async function printAppPage(path: string, data?: string): Promise<Printed> {
   const origin = loopbackOrigin()
   const token = new URL(path, origin).searchParams.get('render')
   if (!token) throw new RenderError('A print needs a render token')
@@ -332,11 +332,11 @@ export async function printAppPage(path: string): Promise<Printed> {
   const ready = `.lw-print[data-print-ready="true"][data-render="${token}"]`
   return printInTab(
     async ({ page, warm }) => {
-      // Run in the page (the server's types know no `window`): the print view's own way to the next render.
-      if (warm && (await page.evaluate('typeof window.loopwrightPrint === "function"'))) {
-        await page.evaluate(`void window.loopwrightPrint(${JSON.stringify(path)})`)
-        return
-      }
+      // Run in the page (the server's types know no `window`): the print view's own way to the next render, in one
+      // call, with the view's data (`data`, JSON) handed over so that the view fetches nothing. In Chromium traces
+      // of a render, that fetch took 18 to 31 ms between the router's move and the view's mount.
+      const handed = data === undefined ? '' : `, JSON.parse(${JSON.stringify(data)})`
+      if (warm && (await page.evaluate(`typeof window.loopwrightPrint === "function" && (void window.loopwrightPrint(${JSON.stringify(path)}${handed}), true)`))) return
       const response = await page.goto(`${origin}${path}`, { waitUntil: 'load', timeout: READY_TIMEOUT_MS })
       if (!response || !response.ok()) throw new RenderError(`The print view answered ${response?.status() ?? 'nothing'}`)
     },
@@ -381,7 +381,7 @@ export async function renderSheetPdf(revisionId: number, options: SheetRenderOpt
   const preparedAt = performance.now()
   let printed: Printed
   try {
-    printed = await printAppPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`)
+    printed = await printAppPage(`/sheets/${detail.id}/print?render=${encodeURIComponent(token)}`, preparedPrints.get(token))
   } finally {
     preparedPrints.delete(token)
   }
