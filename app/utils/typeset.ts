@@ -10,8 +10,8 @@ const typesetCache = new Map<string, string>()
  * KaTeX's HTML of `tex`, with its MathML copy unless `mathml` is false (the print view's formulas: see CalcTex). Its
  * output depends on the TeX, the display mode and that choice only, so it is kept for the formulas set last (on the
  * server too: the same pure function for every request): the PDF renderer's warm tab prints one revision again and
- * again (a preview, then its issue; a package), and typesetting every formula afresh was much
- * of a render's script time (a Chromium trace of the print view).
+ * again (a preview, then its issue; a package), and typesetting every formula afresh was much of a render's script
+ * time (a Chromium trace of the print view).
  */
 export function typeset(tex: string, displayMode: boolean, mathml = true): string {
   const key = `${displayMode ? 'D' : 'I'}${mathml ? 'M' : 'H'}${tex}`
