@@ -55,7 +55,7 @@ import type { Executor, Transaction } from './audited'
 import { readFirmSettings } from './firm'
 import { queueMail, type QueuedMail } from './outbox'
 import { newestIssuedRevision, refused, viewSheet, type Refused } from './sheets'
-import type { PdfRenderer } from './issue-pdf'
+import type { PdfRenderer, RenderedPdf } from './issue-pdf'
 import { enqueueJob, JobFailure, type JobContext } from './jobs'
 import type { CoverFacts, PackagePart } from './package-pdf'
 import { renderTabs } from './pdf-render'
@@ -845,7 +845,8 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
   const stamp = (label: string) => ({ label, purpose: job.purpose, issuedBy: issuer.name, issuedAt: issuedAt.toISOString() })
   const total = first.ordered.length
   const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
-  const parts: PackagePart[] = new Array(total)
+  // Each sheet is merged into the package's PDF as it comes, while the next one prints.
+  const assembly = renderers.assemblePackagePdf(packageId, total)
   // One sheet more at once than the renderer has tabs: each lane takes the next sheet, and the app's own part of one
   // (its data, the PDF's metadata) is done while another prints. On a failure no lane starts another, and the
   // failure of the first failed sheet in the package's order is the job's error.
@@ -870,7 +871,12 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
       if (!stored) throw new JobFailure(`Sheet ${state.sheet.number} is issued but has no stored PDF`, false)
       bytes = stored.bytes
     }
-    parts[index] = { number: state.sheet.number, title: state.sheet.title, loopTag: state.sheet.loopTag, label: label ?? state.revision.label ?? '', newInPackage: label !== undefined, bytes }
+    const part: PackagePart = { number: state.sheet.number, title: state.sheet.title, loopTag: state.sheet.loopTag, label: label ?? state.revision.label ?? '', newInPackage: label !== undefined, bytes }
+    try {
+      await assembly.add(index, part)
+    } catch (error) {
+      throw new JobFailure(`Sheet ${index + 1} of ${total}, ${state.sheet.number}, could not be merged into the package: ${error instanceof Error ? error.message : String(error)}`)
+    }
     finished++
   }
   const lane = async () => {
@@ -898,9 +904,9 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
     issuedAt: issuedAt.toISOString(),
     recipients: recipients.map((recipient) => ({ name: recipient.name, email: recipient.email })),
   }
-  let packagePdf: Awaited<ReturnType<PdfRenderer['renderPackagePdf']>>
+  let packagePdf: RenderedPdf
   try {
-    packagePdf = await renderers.renderPackagePdf(packageId, facts, parts)
+    packagePdf = await assembly.finish(facts)
   } catch (error) {
     throw new JobFailure(`The cover sheet of package ${found.number} could not be printed: ${error instanceof Error ? error.message : String(error)}`)
   }

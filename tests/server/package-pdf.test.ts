@@ -135,7 +135,7 @@ describe('a package issue', () => {
       }
       const again = await runPackageIssue(drizzle(own, { schema }), row!.payload as PackageIssueJob, { jobId, attempt: 2, signal: new AbortController().signal, progress: async () => {} }, {
         renderSheetPdf: nothingRenders,
-        renderPackagePdf: nothingRenders,
+        assemblePackagePdf: () => ({ add: nothingRenders, finish: nothingRenders }),
       })
       expect(again).toEqual(job.result)
       expect((await own`select count(*)::int as n from package_issues where package_id = ${made.body.id}`)[0]!.n).toBe(1)
