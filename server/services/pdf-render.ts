@@ -64,6 +64,12 @@ const MAX_PAGES = Number(process.env.LOOPWRIGHT_PDF_PAGES ?? 1)
 export const renderTabs = MAX_PAGES
 /** Longest wait for the print view to say it is ready (fonts in, formulas fitted). */
 const READY_TIMEOUT_MS = 30_000
+/**
+ * The render tab's screen, in CSS px: app/assets/css/print.css skips a ready print view's layout at exactly this
+ * size, which no paper's page area has. Tried earlier: 680 or 1200 wide made the print's own layout about twice as
+ * long as at 794 or 800 (the print view's breakpoints then differ between the screen and the paper).
+ */
+const TAB_VIEWPORT = { width: 800, height: 600 }
 
 let browserStarting: Promise<{ browser: Browser; userDataDir: string }> | null = null
 
@@ -73,6 +79,7 @@ async function launch() {
     executablePath: CHROMIUM,
     headless: SHELL ? 'shell' : true,
     userDataDir,
+    defaultViewport: TAB_VIEWPORT,
     args: [
       ...(SHELL ? [] : ['--headless=new']),
       '--no-sandbox',
