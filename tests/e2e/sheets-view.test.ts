@@ -256,6 +256,17 @@ describe('the print view', () => {
       expect(derivation.length).toBeGreaterThan(5)
       for (const formula of derivation) expect(formula.scale).toBeGreaterThanOrEqual(READABLE_SCALE)
       if (tag === 'LIC-214-04') expect(derivation.filter((formula) => formula.writtenOut).length).toBeGreaterThanOrEqual(2)
+      // A hidden view keeps its fits: the PDF renderer's tab hides a ready view on its own screen
+      // (app/assets/css/print.css) and prints it from there, and a refit to the hidden box's zero width undid them.
+      const fits = () => page.$$eval('[data-tex-fit], [data-fitted-scale]', (boxes) => boxes.map((box) => [box.getAttribute('data-tex-scale'), box.getAttribute('data-tex-lines'), box.getAttribute('data-fitted-scale'), box.getAttribute('data-written-out')].join()))
+      const fitsShown = await fits()
+      const showView = (display: string) => page.$eval('.lw-print', (view, value) => void ((view as HTMLElement).style.display = value), display)
+      await showView('none')
+      await new Promise((resolve) => setTimeout(resolve, 200))
+      expect(await fits()).toEqual(fitsShown)
+      await showView('')
+      await new Promise((resolve) => setTimeout(resolve, 200))
+      expect(await fits()).toEqual(fitsShown)
 
       // The PDF Chromium makes of the page: the title block and "page x of y" on every page.
       const pdf = await page.pdf({ preferCSSPageSize: true, printBackground: true })
