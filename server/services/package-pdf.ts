@@ -58,7 +58,10 @@ export interface PackageAssembly {
   finish(facts: CoverFacts): Promise<RenderedPdf>
 }
 
-/** Starts the PDF of package `packageId` of `count` sheets; `font` is the Noto face to stamp with (the caller reads it from the server's assets). */
+/**
+ * Starts the PDF of package `packageId` of `count` sheets; `font` is the Noto face to stamp with (the caller reads it
+ * from the server's assets).
+ */
 export function assemblePackagePdf(packageId: number, count: number, font: Promise<Uint8Array>): PackageAssembly {
   const merged = PDFDocument.create().then(async (document) => {
     document.registerFontkit(fontkit)
@@ -73,7 +76,7 @@ export function assemblePackagePdf(packageId: number, count: number, font: Promi
   // pages) in a scratch script, parsing 331-416 → 132-164 ms and saving 66-107 → 21-26 ms.
   const counted: Array<PackagePart & { pages: number }> = []
   const arrived = new Map<number, PackagePart>()
-  // One merge at a time, in the package's order: a sheet that comes before those ahead of it waits in `arrived`.
+  // One merge at a time, in the package's order: a sheet handed over before the sheets ahead of it waits in `arrived`.
   let merging = Promise.resolve()
   const mergeArrived = async () => {
     const { document } = await merged
