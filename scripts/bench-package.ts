@@ -101,5 +101,5 @@ async function main() {
 }
 
 main().catch((error) => {
-  console.log(`\nPackage benchmark could not run: ${error instanceof Error ? error.message : String(error)}`)
+  console.log(`\nPackage benchmark FAIL: it could not run: ${error instanceof Error ? error.message : String(error)}`)
 })

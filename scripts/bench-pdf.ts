@@ -85,5 +85,5 @@ async function main() {
 }
 
 main().catch((error) => {
-  console.log(`\nPDF benchmark could not run: ${error instanceof Error ? error.message : String(error)}`)
+  console.log(`\nPDF benchmark FAIL: it could not run: ${error instanceof Error ? error.message : String(error)}`)
 })

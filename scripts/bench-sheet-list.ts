@@ -23,6 +23,7 @@ import { sheetsQuerySchema, sheetTemplateSchema } from '../shared/schemas/sheets
 import { loopFileOf } from '../shared/schemas/sheet'
 import { evaluateLoopText } from '../shared/calc/index'
 import { ENGINE_VERSION } from '../shared/calc/version'
+import { dropDatabase } from '../tests/setup/app'
 
 const SHEETS = 10_000
 const TARGET_MS = 50
@@ -45,7 +46,7 @@ const admin = new URL(url)
 admin.pathname = '/postgres'
 url.pathname = '/loopwright_bench'
 const server = postgres(admin.toString(), { max: 1, onnotice: () => {} })
-await server.unsafe('drop database if exists loopwright_bench with (force)')
+await dropDatabase(server, 'loopwright_bench')
 await server.unsafe('create database loopwright_bench')
 execFileSync(process.execPath, ['--import', 'tsx', `${root}scripts/migrate.ts`], { env: { ...process.env, NUXT_DATABASE_URL: url.toString() }, stdio: 'ignore' })
 
@@ -148,6 +149,6 @@ try {
   console.log(`  target: every median at most ${TARGET_MS} ms  ${failed === 0 ? 'PASS' : `FAIL (${failed} case(s) over)`}`)
 } finally {
   await sql.end()
-  await server.unsafe('drop database if exists loopwright_bench with (force)')
+  await dropDatabase(server, 'loopwright_bench')
   await server.end()
 }

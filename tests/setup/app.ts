@@ -95,13 +95,32 @@ function testEnv(instance: Instance): Record<string, string> {
   }
 }
 
+/**
+ * Drops database `name` (through `sql`, a connection to another database), ending the sessions on it. WITH (FORCE)
+ * ends them, but PostgreSQL refuses the whole drop (42501, "must be a member of the role whose process is being
+ * terminated") for a session it may not end: seen once at a bench's stop, after a load of writes, most likely an
+ * autovacuum worker (it has no role). Such a session ends by itself or is cancelled within moments, so the drop is
+ * tried again for up to five seconds.
+ */
+export async function dropDatabase(sql: postgres.Sql, name: string) {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      await sql.unsafe(`drop database if exists "${name}" with (force)`)
+      return
+    } catch (error) {
+      if ((error as { code?: string }).code !== '42501' || attempt >= 20) throw error
+      await new Promise((resolve) => setTimeout(resolve, 250))
+    }
+  }
+}
+
 async function recreateDatabase(databaseUrl: string, create: boolean) {
   const url = new URL(databaseUrl)
   const name = url.pathname.slice(1)
   url.pathname = '/postgres'
   const sql = postgres(url.toString(), { max: 1, onnotice: () => {} })
   try {
-    await sql.unsafe(`drop database if exists "${name}" with (force)`)
+    await dropDatabase(sql, name)
     if (create) await sql.unsafe(`create database "${name}"`)
   } finally {
     await sql.end()
