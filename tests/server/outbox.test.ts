@@ -10,6 +10,7 @@ import { drizzle } from 'drizzle-orm/postgres-js'
 import * as schema from '../../server/db/schema'
 import { createOutboxWorker } from '../../server/services/outbox-worker'
 import { deliverOverSmtp } from '../../server/services/smtp-delivery'
+import { dropDatabase } from '../setup/app'
 import { database } from './support/client'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -75,13 +76,13 @@ describe('a worker whose SMTP server is down', () => {
     sink?.kill('SIGTERM')
     await own?.end()
     const admin = postgres(inject('databaseUrl'), { max: 1, onnotice: () => {} })
-    await admin.unsafe(`drop database if exists "loopwright_test_outbox_retry" with (force)`)
+    await dropDatabase(admin, 'loopwright_test_outbox_retry')
     await admin.end()
   })
 
   it('retries after a doubling wait, and delivers once when the server answers', async () => {
     const admin = postgres(inject('databaseUrl'), { max: 1, onnotice: () => {} })
-    await admin.unsafe(`drop database if exists "loopwright_test_outbox_retry" with (force)`)
+    await dropDatabase(admin, 'loopwright_test_outbox_retry')
     await admin.unsafe(`create database "loopwright_test_outbox_retry"`)
     await admin.end()
     execFileSync('node', ['--import', 'tsx', 'scripts/migrate.ts'], { cwd: root, env: { ...process.env, NUXT_DATABASE_URL: url.toString() }, stdio: 'ignore' })

@@ -13,7 +13,7 @@ import { CreateBucketCommand, S3Client } from '@aws-sdk/client-s3'
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { demoPassword } from '../../scripts/demo-people'
 import { processTree } from '../../scripts/process-memory'
-import { appArgs, appEnv, instanceOf } from '../setup/app'
+import { appArgs, appEnv, dropDatabase, instanceOf } from '../setup/app'
 import { demo } from './support/client'
 
 const root = fileURLToPath(new URL('../..', import.meta.url))
@@ -42,7 +42,7 @@ async function recreate(create: boolean) {
   admin.pathname = '/postgres'
   const server = postgres(admin.toString(), { max: 1, onnotice: () => {} })
   try {
-    await server.unsafe('drop database if exists "loopwright_test_package_crash" with (force)')
+    await dropDatabase(server, 'loopwright_test_package_crash')
     if (create) await server.unsafe('create database "loopwright_test_package_crash"')
   } finally {
     await server.end()
