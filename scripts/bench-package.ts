@@ -2,7 +2,8 @@
  * A 20-sheet package issued through the app (issue 9, "Fast, and measured"), run by `npm run bench` after the sheet's
  * PDF. The built app (.output, scripts/setup) on a database of its own (loopwright_bench, seeded with the demo data,
  * dropped afterwards): a new package of 20 sheets made from the five templates of sheets/ in turn, each with its
- * first parameter moved a little (no two sheets alike), submitted and approved through the routes; one sheet preview rendered first so the browser is warm; then
+ * first parameter moved a little (no two sheets alike), submitted and approved through the routes; one sheet preview
+ * rendered first so the browser is warm; then
  * POST /api/packages/[id]/issue and GET /api/jobs/[id] polled every 50 ms until the job is done. Reported: the wall
  * time from the request to the job seen done, the job's own time (created to finished, from its row), the pages, and
  * the peak memory of the app with its Chromium (process tree from /proc every 25 ms; RSS summed over processes is an

@@ -844,7 +844,7 @@ export async function runPackageIssue(db: Database, job: PackageIssueJob, run: J
   const issuedAt = new Date()
   const stamp = (label: string) => ({ label, purpose: job.purpose, issuedBy: issuer.name, issuedAt: issuedAt.toISOString() })
   const total = first.ordered.length
-  const pdfs = new Map<number, Awaited<ReturnType<PdfRenderer['renderSheetPdf']>>>()
+  const pdfs = new Map<number, RenderedPdf>()
   // Each sheet is merged into the package's PDF as it comes, while the next one prints.
   const assembly = renderers.assemblePackagePdf(packageId, total)
   // One sheet more at once than the renderer has tabs: each lane takes the next sheet, and the app's own part of one
