@@ -295,18 +295,22 @@ function printInTab(open: (tab: Tab) => Promise<void>, readySelector: string, le
 }
 
 /**
- * Asks the tab's renderer for a full garbage collection and does not wait for it (V8's `gc({ type: 'major',
- * execution: 'async' })`, exposed by --expose-gc: the collection runs whole, in a task of its own after this call,
- * 35 to 91 ms of the renderer's main thread in a Chromium trace of a package; it is not an incremental one). Each
- * printed view is garbage once the router moves on to the next, but the renderer collected them late: its memory
- * climbed render after render to a plateau of about 320 MiB PSS. Measured with scripts/bench-package.ts and scripts/bench-pdf.ts, in runs taken in
- * turn with and without it: the 20-sheet package's peak PSS 819 → 608 to 645 MiB (the renderer stays near 170 to
- * 240 MiB), one sheet's 556 to 568 → 468 to 471 MiB. The renderer's CPU moved within the machine's noise (package
- * 8.96 → 9.56 to 10.45 s, one sheet 380 to 403 → 350 to 465 ms a render). A forced collection waited for (CDP
- * HeapProfiler.collectGarbage) cost about 140 ms of every render.
+ * Lets the printed view go (a sheet's print view takes itself off the page: `loopwrightRelease` of
+ * app/pages/sheets/[id]/print.vue), then asks the tab's renderer for a full garbage collection and does not wait for
+ * it (V8's `gc({ type: 'major', execution: 'async' })`, exposed by --expose-gc: the collection runs whole, in a task
+ * of its own after this call; it is not an incremental one). In Chromium traces of a package it took 35 to 91 ms of
+ * the renderer's main thread while the printed view was still on the page, and 38 to 61 ms with the view let go first
+ * (it no longer marks the view). Each printed view is garbage once it is let go, but the renderer collected them
+ * late: its memory climbed render after render to a plateau of about 320 MiB PSS. Measured with
+ * scripts/bench-package.ts and scripts/bench-pdf.ts, in runs taken in turn with and without the collection: the
+ * 20-sheet package's peak PSS 819 → 608 to 645 MiB (the renderer stays near 170 to 240 MiB), one sheet's 556 to 568 →
+ * 468 to 471 MiB. The renderer's CPU moved within the machine's noise (package 8.96 → 9.56 to 10.45 s, one sheet 380
+ * to 403 → 350 to 465 ms a render). A forced collection waited for (CDP HeapProfiler.collectGarbage) cost about
+ * 140 ms of every render; a moderate memory-pressure signal instead (CDP Memory.simulatePressureNotification) let the
+ * package's peak PSS reach 641 to 782 MiB.
  */
 function collectAfterPrint(page: Page) {
-  void page.evaluate(`globalThis.gc?.({ type: 'major', execution: 'async' })`).catch(() => {})
+  void page.evaluate(`Promise.resolve(window.loopwrightRelease?.()).then(() => globalThis.gc?.({ type: 'major', execution: 'async' }))`).catch(() => {})
 }
 
 /** What a tab showed when its print view was not ready, in a few words, for the render's error. */
