@@ -65,8 +65,8 @@ export const renderTabs = MAX_PAGES
 /** Longest wait for the print view to say it is ready (fonts in, formulas fitted). */
 const READY_TIMEOUT_MS = 30_000
 /**
- * The render tab's screen, in CSS px: app/assets/css/print.css skips a ready print view's layout at exactly this
- * size, which no paper's page area has. Tried earlier: 680 or 1200 wide made the print's own layout about twice as
+ * The render tab's screen, in CSS px: app/assets/css/print.css hides a print view on the tab's own screen at exactly
+ * this size, which no paper's page area has. Tried earlier: 680 or 1200 wide made the print's own layout about twice as
  * long as at 794 or 800 (the print view's breakpoints then differ between the screen and the paper).
  */
 const TAB_VIEWPORT = { width: 800, height: 600 }

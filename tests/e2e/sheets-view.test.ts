@@ -256,7 +256,7 @@ describe('the print view', () => {
       expect(derivation.length).toBeGreaterThan(5)
       for (const formula of derivation) expect(formula.scale).toBeGreaterThanOrEqual(READABLE_SCALE)
       if (tag === 'LIC-214-04') expect(derivation.filter((formula) => formula.writtenOut).length).toBeGreaterThanOrEqual(2)
-      // A hidden view keeps its fits: the PDF renderer's tab hides a ready view on its own screen
+      // A hidden view keeps its fits: the PDF renderer's tab hides the view on its own screen
       // (app/assets/css/print.css) and prints it from there, and a refit to the hidden box's zero width undid them.
       const fits = () => page.$$eval('[data-tex-fit], [data-fitted-scale]', (boxes) => boxes.map((box) => [box.getAttribute('data-tex-scale'), box.getAttribute('data-tex-lines'), box.getAttribute('data-fitted-scale'), box.getAttribute('data-written-out')].join()))
       const fitsShown = await fits()
